@@ -1,0 +1,67 @@
+// Entry point of the extension: the language client, the commands, the plot panels and workspace
+// trust. Nothing here may throw out of activate(): a broken server leaves colouring, snippets and
+// the language configuration working.
+import * as vscode from 'vscode';
+import { buildPage, buildReportHtml } from './page';
+import { registerCommands, exportCsvText, type CommandServices } from './commands';
+import { ServerConnection } from './language-client';
+import { watchLiveEdits } from './live';
+import { ReportPanels, VIEW_TYPE, type PanelHost, type ReportPanel } from './panel';
+import { fileStem, pngBytes, saveFile } from './save';
+import { isTrusted, onTrustGranted, TrustNotification, requireTrust } from './trust';
+
+let server: ServerConnection | undefined;
+
+function panelHost(output: () => vscode.LogOutputChannel): PanelHost {
+  return {
+    exportCsv: (panel: ReportPanel, csv: string) => exportCsvText(panel.id, csv),
+    async exportPng(panel: ReportPanel, dataUrl: string) {
+      const bytes = pngBytes(dataUrl);
+      if (!bytes) throw new Error('the plot panel sent an image that is not a PNG');
+      const written = await saveFile(
+        { name: `${fileStem(panel.id.loop)}.png`, filters: { PNG: ['png'] }, title: `Save the plot of ${panel.id.loop}`, near: panel.documentUri },
+        bytes,
+      );
+      if (written) vscode.window.setStatusBarMessage(`Loopwright: wrote ${vscode.workspace.asRelativePath(written)}`, 5000);
+    },
+    async editParam(panel: ReportPanel, edit) {
+      if (!isTrusted()) {
+        await requireTrust('live tuning');
+        return;
+      }
+      const document = await vscode.workspace.openTextDocument(panel.documentUri);
+      const range = new vscode.Range(document.positionAt(edit.span.start), document.positionAt(edit.span.end));
+      const change = new vscode.WorkspaceEdit();
+      change.replace(document.uri, range, edit.newText);
+      if (!(await vscode.workspace.applyEdit(change))) throw new Error(`could not change ${vscode.workspace.asRelativePath(document.uri)}`);
+    },
+    log: (message: string) => output().warn(message),
+  };
+}
+
+export async function activate(context: vscode.ExtensionContext): Promise<void> {
+  const connection = new ServerConnection(context);
+  server = connection;
+  const panels = new ReportPanels(context.extensionUri, buildPage, panelHost(() => connection.output));
+  const services: CommandServices = { server: connection, panels, reportHtml: buildReportHtml };
+
+  context.subscriptions.push(
+    panels,
+    ...registerCommands(services),
+    vscode.window.registerWebviewPanelSerializer(VIEW_TYPE, panels),
+    watchLiveEdits(services),
+    onTrustGranted((params) => void connection.notify(TrustNotification, params)),
+    vscode.window.onDidChangeActiveColorTheme(() => panels.themeChanged()),
+  );
+
+  // Start the server without holding up activation; failures are logged, never thrown.
+  void connection.ready().then((client) => {
+    if (!client) connection.output.warn('Checking, hovers and code lenses are off: the Loopwright server is not running.');
+  });
+}
+
+export async function deactivate(): Promise<void> {
+  const s = server;
+  server = undefined;
+  await s?.dispose();
+}
