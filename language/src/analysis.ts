@@ -1,0 +1,48 @@
+// The per-document facade: one Analysis per text version. Parsing, name checks and unit checks
+// run at once; heavier results (compiled models, linearizations, runs) are computed on first use
+// by the layers that own them. The server, the CLI and the tests all go through here, so a hover,
+// a code lens and `loopwright linearize` can never disagree.
+
+import { DiagnosticSink, type Diagnostic } from './diagnostics';
+import type { FileAst } from './syntax/ast';
+import { parse } from './syntax/parse';
+import { checkNames } from './check/names';
+import type { SymbolTable } from './check/symbols';
+import type { IToken } from 'chevrotain';
+
+export interface AnalyzeOptions {
+  /** Skip the unit checks (for benchmarks of the front end alone). */
+  skipUnits?: boolean;
+}
+
+export interface Analysis {
+  text: string;
+  ast: FileAst;
+  symbols: SymbolTable;
+  /** Unit results (SI values of literals, dimensions of expressions); absent when skipped. */
+  units?: unknown;
+  diagnostics: Diagnostic[];
+  tokens: IToken[];
+  /** Results of later layers, memoised per analysis by their owners (see model/ and linear/). */
+  cache: Map<string, unknown>;
+  /** Adds diagnostics from a later layer (model, linear) exactly once per key. */
+  sink: DiagnosticSink;
+}
+
+/** Analyses a document. Never throws, whatever the text. */
+export function analyze(text: string, options: AnalyzeOptions = {}): Analysis {
+  const sink = new DiagnosticSink();
+  let ast: FileAst = { kind: 'file', span: { start: 0, end: text.length }, blocks: [], comments: [] };
+  let tokens: IToken[] = [];
+  let symbols: SymbolTable = { systems: new Map(), loops: new Map(), blocks: [], refs: [], resolved: new Map() };
+  let units: unknown;
+  try {
+    const parsed = parse(text, sink);
+    ast = parsed.ast;
+    tokens = parsed.tokens;
+    symbols = checkNames(ast, sink);
+  } catch (err) {
+    sink.error('LW101', { start: 0, end: Math.min(1, text.length) }, `internal error while analysing (please report): ${(err as Error).message}`);
+  }
+  return { text, ast, symbols, units, diagnostics: sink.items, tokens, cache: new Map(), sink };
+}

@@ -1,0 +1,156 @@
+// Tokens of the loop language, as an ordered list: Chevrotain tries patterns in order and takes
+// the first that matches, so order matters wherever one pattern is a prefix of another.
+//   - comments and strings first (their insides must not lex as anything else);
+//   - the bracketed unit (context-sensitive: only right after a number, or after the name in a
+//     `state` / `input` / `output` declaration) before the plain `[`;
+//   - `->` before `-`, `..` before `.` and numbers, two-character comparisons before one-character;
+//   - keywords before identifiers, each with `longer_alt: Ident` so `plantain` stays a name.
+// Contextual keywords (`point`, `from`, `within`, `every`, `by`, `over`, `steps`, `algebraic`)
+// are also in the Ident category: they can be used as ordinary names anywhere else.
+
+import { createToken, Lexer, type IToken, type TokenType } from 'chevrotain';
+
+export const WhiteSpace = createToken({ name: 'WhiteSpace', pattern: /[ \t\r\n\f\v\u00a0\ufeff]+/, group: Lexer.SKIPPED, line_breaks: true });
+export const Comment = createToken({ name: 'Comment', pattern: /#[^\n\r]*/, group: 'comments' });
+export const StringLit = createToken({ name: 'StringLit', pattern: /"(?:[^"\\\n\r]|\\.)*"/, label: 'a string' });
+/** A string with no closing quote before the end of the line; reported, then read as a string. */
+export const UnterminatedString = createToken({ name: 'UnterminatedString', pattern: /"(?:[^"\\\n\r]|\\.)*/, label: 'a string' });
+
+const identRe = /[\p{L}_][\p{L}\p{N}_]*/uy;
+/** Identifiers may use any Unicode letter (`θ`, `ω`); a sticky Unicode regex does the matching. */
+function matchIdent(text: string, offset: number): RegExpExecArray | null {
+  identRe.lastIndex = offset;
+  return identRe.exec(text);
+}
+export const Ident = createToken({ name: 'Ident', pattern: { exec: matchIdent }, line_breaks: false, label: 'a name' });
+
+const reservedWords = [
+  'plant', 'controller', 'loop', 'param', 'let', 'state', 'input', 'output', 'linear', 'pid', 'limit',
+  'operating', 'sample', 'signal', 'use', 'around', 'start', 'simulate', 'compare', 'sweep', 'show',
+  'expect', 'solve', 'if', 'then', 'else', 'and', 'or', 'not',
+] as const;
+const contextualWords = ['point', 'from', 'within', 'every', 'by', 'over', 'steps', 'algebraic'] as const;
+
+function keyword(word: string, contextual: boolean): TokenType {
+  return createToken({
+    name: 'Kw_' + word,
+    pattern: new RegExp(word),
+    longer_alt: Ident,
+    label: `'${word}'`,
+    categories: contextual ? [Ident] : [],
+  });
+}
+
+export const Kw = Object.fromEntries([
+  ...reservedWords.map((w) => [w, keyword(w, false)]),
+  ...contextualWords.map((w) => [w, keyword(w, true)]),
+]) as Record<(typeof reservedWords)[number] | (typeof contextualWords)[number], TokenType>;
+
+export const RESERVED_WORDS: readonly string[] = reservedWords;
+export const CONTEXTUAL_WORDS: readonly string[] = contextualWords;
+
+/**
+ * A unit in brackets. Lexed as one token so that `s`, `m` and `/` inside it never meet the
+ * expression grammar. Matches only where a unit may stand; an unclosed bracket is still a unit
+ * token (reported by the parser as LW102) so the rest of the line is not misread.
+ */
+function matchUnit(text: string, offset: number, tokens: IToken[]): RegExpExecArray | null {
+  if (text.charCodeAt(offset) !== 91 /* [ */) return null;
+  const prev = tokens[tokens.length - 1];
+  if (!prev) return null;
+  const prevType = prev.tokenType;
+  let allowed = prevType === NumberLit;
+  if (!allowed && tokenMatches(prev, Ident)) {
+    const before = tokens[tokens.length - 2];
+    allowed = !!before && (before.tokenType === Kw.state || before.tokenType === Kw.input || before.tokenType === Kw.output);
+  }
+  if (!allowed) return null;
+  let i = offset + 1;
+  while (i < text.length) {
+    const c = text.charCodeAt(i);
+    if (c === 93 /* ] */) {
+      i++;
+      break;
+    }
+    if (c === 10 || c === 13 || c === 91 || c === 35 /* # */) break;
+    i++;
+  }
+  const m = [text.slice(offset, i)] as unknown as RegExpExecArray;
+  m.index = offset;
+  m.input = text;
+  return m;
+}
+
+export const NumberLit = createToken({ name: 'NumberLit', pattern: /(?:\d+(?:\.\d+)?|\.\d+)(?:[eE][+-]?\d+)?/, label: 'a number' });
+export const UnitLit = createToken({ name: 'UnitLit', pattern: { exec: matchUnit }, line_breaks: false, label: 'a unit in brackets', start_chars_hint: ['['] });
+
+export const Arrow = createToken({ name: 'Arrow', pattern: /->/, label: "'->'" });
+export const DotDot = createToken({ name: 'DotDot', pattern: /\.\./, label: "'..'" });
+export const Dot = createToken({ name: 'Dot', pattern: /\./, label: "'.'" });
+export const LessEq = createToken({ name: 'LessEq', pattern: /<=/, label: "'<='" });
+export const GreaterEq = createToken({ name: 'GreaterEq', pattern: />=/, label: "'>='" });
+export const EqEq = createToken({ name: 'EqEq', pattern: /==/, label: "'=='" });
+export const NotEq = createToken({ name: 'NotEq', pattern: /!=/, label: "'!='" });
+export const Less = createToken({ name: 'Less', pattern: /</, label: "'<'" });
+export const Greater = createToken({ name: 'Greater', pattern: />/, label: "'>'" });
+export const Equals = createToken({ name: 'Equals', pattern: /=/, label: "'='" });
+export const Plus = createToken({ name: 'Plus', pattern: /\+/, label: "'+'" });
+export const Minus = createToken({ name: 'Minus', pattern: /-|\u2212/, label: "'-'" });
+export const Star = createToken({ name: 'Star', pattern: /\*|\u00b7/, label: "'*'" });
+export const Slash = createToken({ name: 'Slash', pattern: /\//, label: "'/'" });
+export const Caret = createToken({ name: 'Caret', pattern: /\^/, label: "'^'" });
+export const Quote = createToken({ name: 'Quote', pattern: /'/, label: "'" + "'" + "' (derivative)" });
+export const LParen = createToken({ name: 'LParen', pattern: /\(/, label: "'('" });
+export const RParen = createToken({ name: 'RParen', pattern: /\)/, label: "')'" });
+export const LBracket = createToken({ name: 'LBracket', pattern: /\[/, label: "'['" });
+export const RBracket = createToken({ name: 'RBracket', pattern: /]/, label: "']'" });
+export const LCurly = createToken({ name: 'LCurly', pattern: /{/, label: "'{'" });
+export const RCurly = createToken({ name: 'RCurly', pattern: /}/, label: "'}'" });
+export const Comma = createToken({ name: 'Comma', pattern: /,/, label: "','" });
+
+export const allTokens: TokenType[] = [
+  WhiteSpace,
+  Comment,
+  StringLit,
+  UnterminatedString,
+  UnitLit,
+  Arrow,
+  DotDot,
+  NumberLit,
+  Dot,
+  LessEq,
+  GreaterEq,
+  EqEq,
+  NotEq,
+  Less,
+  Greater,
+  Equals,
+  Plus,
+  Minus,
+  Star,
+  Slash,
+  Caret,
+  Quote,
+  LParen,
+  RParen,
+  LBracket,
+  RBracket,
+  LCurly,
+  RCurly,
+  Comma,
+  // keywords before Ident
+  ...Object.values(Kw),
+  Ident,
+];
+
+export const loopLexer = new Lexer(allTokens, {
+  positionTracking: 'full',
+  ensureOptimizations: false,
+  skipValidations: true,
+});
+
+export function tokenMatches(tok: IToken, type: TokenType): boolean {
+  if (tok.tokenType === type) return true;
+  const cats = (tok.tokenType as TokenType & { CATEGORIES?: TokenType[] }).CATEGORIES;
+  return !!cats && cats.includes(type);
+}
