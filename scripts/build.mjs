@@ -20,8 +20,11 @@ const entries = [
 
 mkdirSync(at('dist/media'), { recursive: true });
 const jobs = entries.filter((e) => existsSync(at(e.in))).map((e) => build({ entryPoints: [at(e.in)], outfile: at(e.out), ...e.opts }));
-await Promise.all(jobs);
+// Every bundle is attempted even when one fails, so one broken entry does not hide the others.
+const results = await Promise.allSettled(jobs);
+const failed = results.filter((r) => r.status === 'rejected');
+if (failed.length) process.exitCode = 1;
 for (const [from, to] of [['node_modules/uplot/dist/uPlot.min.css', 'dist/media/uPlot.min.css'], ['client/media/style.css', 'dist/media/style.css']]) {
   if (existsSync(at(from))) copyFileSync(at(from), at(to));
 }
-if (!watch) console.log(`built ${jobs.length} bundle(s) into dist/`);
+if (!watch) console.log(`built ${jobs.length - failed.length} of ${jobs.length} bundle(s) into dist/`);

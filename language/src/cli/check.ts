@@ -1,0 +1,34 @@
+// `loopwright check FILE...`: one line per diagnostic, exit 1 on any error.
+
+import { analyze } from '../analysis';
+import { diagnosticLine, locate, type LocatedDiagnostic } from './format';
+import { EXIT_FAIL, EXIT_OK, EXIT_USAGE, parseArgs, type CliCommand } from './types';
+import { readSource } from './source';
+
+export const command: CliCommand = {
+  name: 'check',
+  summary: 'check files for syntax, name, unit and wiring errors',
+  usage: `loopwright check FILE... [--json]
+
+Prints one line per diagnostic:  path:line:col: severity CODE message
+  --json   print an array of {file, line, column, endLine, endColumn, severity, code, message}
+           (1-based lines and columns; severity is error, warning or info)
+Exit status: 0 no errors (warnings allowed), 1 an error was found, 2 usage error or unreadable file.`,
+  async run(args, io) {
+    const p = parseArgs(args, { booleans: ['json'] });
+    if (p.positional.length === 0) {
+      io.err('loopwright check: no file given (usage: loopwright check FILE... [--json])');
+      return EXIT_USAGE;
+    }
+    const all: LocatedDiagnostic[] = [];
+    for (const file of p.positional) {
+      const src = readSource(file, io, 'check');
+      if (src === undefined) return EXIT_USAGE;
+      const a = analyze(src);
+      all.push(...locate(file, src, a.diagnostics));
+    }
+    if (p.flags.has('json')) io.out(JSON.stringify(all, null, 2));
+    else for (const d of all) io.out(diagnosticLine(d));
+    return all.some((d) => d.severity === 'error') ? EXIT_FAIL : EXIT_OK;
+  },
+};

@@ -1,0 +1,6 @@
+// The registered commands, in the order `loopwright --help` lists them.
+
+import type { CliCommand } from './types';
+import { command as check } from './check';
+
+export const COMMANDS: CliCommand[] = [check];
