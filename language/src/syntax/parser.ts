@@ -27,6 +27,9 @@ const messages: IParserErrorMessageProvider = {
     if (expected === T.RParen) return `expected ')' to close the parentheses, found ${show(actual)}`;
     if (expected === T.RCurly) return `expected '}' to close the ${ruleName === 'block' ? 'block' : 'braces'}, found ${show(actual)}`;
     if (expected === T.Ident) return `expected a name, found ${show(actual)}`;
+    if (expected === T.Arrow && ruleName === 'arrowMember') {
+      return `expected '->' after this expression, found ${show(actual)} (an arrow reads 'EXPR -> SYSTEM.INPUT'; if the line continues the previous one, end the previous line with the operator)`;
+    }
     return `expected ${want}, found ${show(actual)}`;
   },
   buildNotAllInputParsedMessage({ firstRedundant }) {
