@@ -54,7 +54,7 @@ export interface PoleReport {
 
 export function poleInfo(p: Complex): PoleInfo {
   const natural = cAbs(p);
-  const damping = natural === 0 ? 1 : -p.re / natural;
+  const damping = natural === 0 ? 1 : p.re === 0 ? 0 : -p.re / natural;
   return { re: p.re, im: p.im, damping, natural, timeConstant: p.re === 0 ? null : 1 / Math.abs(p.re) };
 }
 
