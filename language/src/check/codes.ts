@@ -55,6 +55,7 @@ const table = [
   ['LW308', 'warning', 'Bare number where a dimensioned quantity is expected'],
   ['LW309', 'error', 'Matrix sizes do not fit the declared states, inputs and outputs'],
   ['LW310', 'error', 'Comparison or condition of the wrong dimension'],
+  ['LW311', 'warning', 'Unit check of a member stopped on an internal error'],
   // wiring and loops
   ['LW401', 'error', 'Input wired more than once'],
   ['LW402', 'error', 'Input of a used system never wired'],

@@ -1,0 +1,56 @@
+// Unit text for messages and hints, in the user's own units where they are known.
+//
+// The checker carries, beside each dimension, the factors of the units the user wrote
+// (`N*m/rad` times `s` gives N, m, s, rad^-1). They cancel and combine by name only; no
+// conversion happens here. `describe` shows them next to the SI base form when the two differ.
+
+import { type Dim, DIM_TOLERANCE, formatDim, isDimless, joinFactors } from './dimension';
+import { parseUnit, type UnitFactor } from './registry';
+
+export type Factors = readonly UnitFactor[];
+
+export function mulFactors(a: Factors, b: Factors, sign: 1 | -1 = 1): UnitFactor[] {
+  const out = a.map((f) => ({ ...f }));
+  for (const f of b) {
+    const same = out.find((g) => g.name === f.name);
+    if (same) same.power += sign * f.power;
+    else out.push({ name: f.name, power: sign * f.power });
+  }
+  return out.filter((f) => Math.abs(f.power) > DIM_TOLERANCE);
+}
+
+export function powFactors(a: Factors, k: number): UnitFactor[] {
+  if (k === 0) return [];
+  return a.map((f) => ({ name: f.name, power: f.power * k }));
+}
+
+/** True when every power is a whole number (the text then reads back as a unit). */
+function integral(a: Factors): boolean {
+  return a.every((f) => Math.abs(f.power - Math.round(f.power)) < DIM_TOLERANCE);
+}
+
+/** The user's unit text for factors, or the SI base form when the factors do not fit the dimension. */
+export function factorsText(a: Factors, dim: Dim): string {
+  if (a.length === 0) return isDimless(dim) ? '1' : formatDim(dim);
+  return joinFactors(a);
+}
+
+/** `N*m/kg (m^2/s^2)`, `m/s^2`, `rad (1)`, `dimensionless`. */
+export function describe(a: Factors, dim: Dim): string {
+  const user = factorsText(a, dim);
+  const si = formatDim(dim);
+  if (user === si) return si === '1' ? 'dimensionless' : si;
+  return `${user} (${si})`;
+}
+
+/**
+ * A unit text for a hint: the user's factors when they form a coherent unit (scale 1, such as
+ * kg*m^2 or N*m/rad) and read back to the same dimension, else the SI base form.
+ */
+export function hintText(a: Factors, dim: Dim): string {
+  if (a.length === 0 || !integral(a)) return formatDim(dim);
+  const text = joinFactors(a);
+  const r = parseUnit(text);
+  if (r.ok && Math.abs(r.unit.scale - 1) < 1e-12 && r.unit.offset === 0) return text;
+  return formatDim(dim);
+}
