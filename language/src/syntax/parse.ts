@@ -32,7 +32,7 @@ export function parse(text: string, sink: DiagnosticSink): ParseResult {
   }
   const comments = (lexed.groups.comments ?? []) as IToken[];
   const parser = getParser();
-  parser.setInput(lexed.tokens);
+  parser.setInput(lexed.tokens, text);
   let cst;
   try {
     cst = parser.file();

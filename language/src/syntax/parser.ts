@@ -64,14 +64,21 @@ export interface TokenLayout {
   nested: Uint8Array;
 }
 
-export function layoutOf(tokens: IToken[]): TokenLayout {
+export function layoutOf(tokens: IToken[], text: string): TokenLayout {
   const n = tokens.length;
   const breakBefore = new Uint8Array(n);
   const nested = new Uint8Array(n);
   let depth = 0;
+  let prevEnd = 0;
   for (let i = 0; i < n; i++) {
     const tok = tokens[i];
-    if (i > 0 && (tok.startLine ?? 0) > (tokens[i - 1].endLine ?? 0)) breakBefore[i] = 1;
+    for (let k = prevEnd; k < tok.startOffset; k++) {
+      if (text.charCodeAt(k) === 10) {
+        breakBefore[i] = i > 0 ? 1 : 0;
+        break;
+      }
+    }
+    prevEnd = tok.startOffset + tok.image.length;
     const tt = tok.tokenType;
     if (tt === T.RParen || tt === T.RBracket) depth = Math.max(0, depth - 1);
     nested[i] = depth > 0 ? 1 : 0;
@@ -84,24 +91,22 @@ export function layoutOf(tokens: IToken[]): TokenLayout {
 
 export class LoopParser extends CstParser {
   private layout: TokenLayout = { breakBefore: new Uint8Array(0), nested: new Uint8Array(0) };
-  private tokenIndex = new Map<IToken, number>();
 
   constructor() {
-    super(T.allTokens, { recoveryEnabled: true, maxLookahead: 4, errorMessageProvider: messages, nodeLocationTracking: 'full' });
+    super(T.allTokens, { recoveryEnabled: true, maxLookahead: 4, errorMessageProvider: messages, nodeLocationTracking: 'onlyOffset' });
     this.performSelfAnalysis();
   }
 
-  setInput(tokens: IToken[]): void {
-    this.layout = layoutOf(tokens);
-    this.tokenIndex = new Map(tokens.map((t, i) => [t, i]));
+  setInput(tokens: IToken[], text: string): void {
+    this.layout = layoutOf(tokens, text);
     this.input = tokens;
   }
 
   /** True when the next token may continue the current expression (not a new line's start). */
   private continues(): boolean {
-    const tok = this.LA(1);
-    const i = this.tokenIndex.get(tok);
-    if (i === undefined) return true;
+    // Chevrotain's lexer adapter keeps the index of the last consumed token in `currIdx`.
+    const i = (this as unknown as { currIdx: number }).currIdx + 1;
+    if (!(i >= 0 && i < this.layout.breakBefore.length)) return true;
     return !this.layout.breakBefore[i] || !!this.layout.nested[i];
   }
 
@@ -374,108 +379,46 @@ export class LoopParser extends CstParser {
     this.SUBRULE(this.expression);
   });
 
-  // ---------- expressions, lowest precedence first ----------
+  // ---------- expressions ----------
+  // An expression is a flat run of operands and binary operators; to-ast.ts builds the tree by
+  // precedence (or < and < not < comparisons < + - < * / < unary - + < ^). Keeping the grammar
+  // flat keeps the concrete tree small: three nodes per operand instead of one per level.
 
   public expression = this.RULE('expression', () => {
-    this.SUBRULE(this.orExpr);
-  });
-
-  private orExpr = this.RULE('orExpr', () => {
-    this.SUBRULE(this.andExpr, { LABEL: 'operands' });
+    this.SUBRULE(this.operand, { LABEL: 'operands' });
     this.MANY({
-      GATE: () => this.continues(),
-      DEF: () => {
-        this.CONSUME(Kw.or, { LABEL: 'ops' });
-        this.SUBRULE2(this.andExpr, { LABEL: 'operands' });
-      },
-    });
-  });
-
-  private andExpr = this.RULE('andExpr', () => {
-    this.SUBRULE(this.notExpr, { LABEL: 'operands' });
-    this.MANY({
-      GATE: () => this.continues(),
-      DEF: () => {
-        this.CONSUME(Kw.and, { LABEL: 'ops' });
-        this.SUBRULE2(this.notExpr, { LABEL: 'operands' });
-      },
-    });
-  });
-
-  private notExpr = this.RULE('notExpr', () => {
-    this.OR([
-      {
-        ALT: () => {
-          this.CONSUME(Kw.not);
-          this.SUBRULE(this.notExpr);
-        },
-      },
-      { ALT: () => this.SUBRULE(this.cmpExpr) },
-    ]);
-  });
-
-  private cmpExpr = this.RULE('cmpExpr', () => {
-    this.SUBRULE(this.addExpr, { LABEL: 'operands' });
-    this.OPTION({
       GATE: () => this.continues(),
       DEF: () => {
         this.OR([
+          { ALT: () => this.CONSUME(Kw.or, { LABEL: 'ops' }) },
+          { ALT: () => this.CONSUME(Kw.and, { LABEL: 'ops' }) },
           { ALT: () => this.CONSUME(T.LessEq, { LABEL: 'ops' }) },
           { ALT: () => this.CONSUME(T.GreaterEq, { LABEL: 'ops' }) },
           { ALT: () => this.CONSUME(T.EqEq, { LABEL: 'ops' }) },
           { ALT: () => this.CONSUME(T.NotEq, { LABEL: 'ops' }) },
           { ALT: () => this.CONSUME(T.Less, { LABEL: 'ops' }) },
           { ALT: () => this.CONSUME(T.Greater, { LABEL: 'ops' }) },
+          { ALT: () => this.CONSUME(T.Plus, { LABEL: 'ops' }) },
+          { ALT: () => this.CONSUME(T.Minus, { LABEL: 'ops' }) },
+          { ALT: () => this.CONSUME(T.Star, { LABEL: 'ops' }) },
+          { ALT: () => this.CONSUME(T.Slash, { LABEL: 'ops' }) },
+          { ALT: () => this.CONSUME(T.Caret, { LABEL: 'ops' }) },
         ]);
-        this.SUBRULE2(this.addExpr, { LABEL: 'operands' });
+        this.SUBRULE2(this.operand, { LABEL: 'operands' });
       },
     });
   });
 
-  private addExpr = this.RULE('addExpr', () => {
-    this.SUBRULE(this.mulExpr, { LABEL: 'operands' });
-    this.MANY({
-      GATE: () => this.continues(),
-      DEF: () => {
-        this.OR([{ ALT: () => this.CONSUME(T.Plus, { LABEL: 'ops' }) }, { ALT: () => this.CONSUME(T.Minus, { LABEL: 'ops' }) }]);
-        this.SUBRULE2(this.mulExpr, { LABEL: 'operands' });
-      },
-    });
-  });
-
-  private mulExpr = this.RULE('mulExpr', () => {
-    this.SUBRULE(this.unaryExpr, { LABEL: 'operands' });
-    this.MANY({
-      GATE: () => this.continues(),
-      DEF: () => {
-        this.OR([{ ALT: () => this.CONSUME(T.Star, { LABEL: 'ops' }) }, { ALT: () => this.CONSUME(T.Slash, { LABEL: 'ops' }) }]);
-        this.SUBRULE2(this.unaryExpr, { LABEL: 'operands' });
-      },
-    });
-  });
-
-  private unaryExpr = this.RULE('unaryExpr', () => {
-    this.OR([
-      {
-        ALT: () => {
-          this.OR2([{ ALT: () => this.CONSUME(T.Minus, { LABEL: 'op' }) }, { ALT: () => this.CONSUME(T.Plus, { LABEL: 'op' }) }]);
-          this.SUBRULE(this.unaryExpr);
-        },
-      },
-      { ALT: () => this.SUBRULE(this.powExpr) },
-    ]);
-  });
-
-  /** `a ^ b` binds tighter than unary minus on its left (-x^2 = -(x^2)) and is right-associative. */
-  private powExpr = this.RULE('powExpr', () => {
+  /** Prefix operators (`-`, `+`, `not`) then a primary. */
+  private operand = this.RULE('operand', () => {
+    this.MANY(() =>
+      this.OR([
+        { ALT: () => this.CONSUME(T.Minus, { LABEL: 'prefix' }) },
+        { ALT: () => this.CONSUME(T.Plus, { LABEL: 'prefix' }) },
+        { ALT: () => this.CONSUME(Kw.not, { LABEL: 'prefix' }) },
+      ]),
+    );
     this.SUBRULE(this.primary);
-    this.OPTION({
-      GATE: () => this.continues(),
-      DEF: () => {
-        this.CONSUME(T.Caret);
-        this.SUBRULE(this.unaryExpr);
-      },
-    });
   });
 
   private primary = this.RULE('primary', () => {

@@ -203,35 +203,7 @@ export class AstBuilder {
     const span = nodeSpan(n, fallback);
     switch (n.name) {
       case 'expression':
-        return this.expr(nodes(c, 'orExpr')[0], span);
-      case 'orExpr':
-      case 'andExpr':
-      case 'cmpExpr':
-      case 'addExpr':
-      case 'mulExpr':
-        return this.binaryChain(c, span);
-      case 'notExpr': {
-        const not = tokens(c, 'Kw_not')[0];
-        if (not) {
-          return { kind: 'unary', span, op: 'not', opSpan: tokSpan(not, span), operand: this.expr(nodes(c, 'notExpr')[0], span) };
-        }
-        return this.expr(nodes(c, 'cmpExpr')[0], span);
-      }
-      case 'unaryExpr': {
-        const op = tokens(c, 'op')[0];
-        if (op) {
-          const operand = this.expr(nodes(c, 'unaryExpr')[0], span);
-          return { kind: 'unary', span, op: op.tokenType.name === 'Minus' ? '-' : '+', opSpan: tokSpan(op, span), operand };
-        }
-        return this.expr(nodes(c, 'powExpr')[0], span);
-      }
-      case 'powExpr': {
-        const base = this.expr(nodes(c, 'primary')[0], span);
-        const caret = tokens(c, 'Caret')[0];
-        if (!caret) return base;
-        const exp = this.expr(nodes(c, 'unaryExpr')[0], span);
-        return { kind: 'binary', span, op: '^', opSpan: tokSpan(caret, span), left: base, right: exp };
-      }
+        return this.flatExpression(c, span);
       case 'primary':
         return this.primary(c, span);
       case 'nameExpr':
@@ -251,23 +223,52 @@ export class AstBuilder {
     }
   }
 
-  private binaryChain(c: Children, span: Span): A.Expr {
+  /**
+   * Builds the tree of a flat run `operand (op operand)*`, each operand being prefix operators
+   * and a primary, by precedence climbing. Binding powers: or 1, and 2, comparisons 4, + − 5,
+   * * / 6, ^ 8 (right-associative). A prefix `not` takes everything that binds tighter than
+   * `and` (`not a < b` is not (a < b)); a prefix − or + takes what binds tighter than * /
+   * (`-x^2` is −(x²), `-a*b` is (−a)·b).
+   */
+  private flatExpression(c: Children, span: Span): A.Expr {
     const operands = nodes(c, 'operands');
     const ops = tokens(c, 'ops');
-    let left = this.expr(operands[0], span);
-    for (let i = 0; i < ops.length; i++) {
-      const right = this.expr(operands[i + 1], { start: left.span.end, end: tokSpan(ops[i], left.span).end });
-      const opTok = ops[i];
-      left = {
-        kind: 'binary',
-        span: { start: left.span.start, end: Math.max(right.span.end, left.span.end) },
-        op: opTok.image === '\u2212' ? '-' : opTok.image === '\u00b7' ? '*' : (opTok.image as A.BinaryOp),
-        opSpan: tokSpan(opTok, left.span),
-        left,
-        right,
-      };
-    }
-    return left;
+    const prefixes = operands.map((o) => tokens(o.children as Children, 'prefix'));
+    let pos = 0; // operand being read; ops[pos] follows operands[pos]
+    let pre = 0; // prefix operators of operands[pos] already read
+    const empty = (at: number): A.Expr => ({ kind: 'error', span: { start: at, end: at } });
+    const atom = (): A.Expr => {
+      const o = operands[pos];
+      if (!o) return empty(span.end);
+      const pfx = prefixes[pos];
+      if (pre < pfx.length) {
+        const t = pfx[pre++];
+        const op: A.UnaryOp = t.image === 'not' ? 'not' : t.image === '+' ? '+' : '-';
+        const operand = climb(op === 'not' ? 2 : 6);
+        const opSpan = tokSpan(t, span);
+        return { kind: 'unary', span: { start: opSpan.start, end: Math.max(opSpan.end, operand.span.end) }, op, opSpan, operand };
+      }
+      const oc = o.children as Children;
+      const e = this.expr(nodes(oc, 'primary')[0], nodeSpan(o, span));
+      pos++;
+      pre = 0;
+      return e;
+    };
+    const climb = (minBp: number): A.Expr => {
+      let left = atom();
+      while (pos - 1 < ops.length && pos > 0) {
+        const opTok = ops[pos - 1];
+        const op = binaryOp(opTok.image);
+        const bp = BINDING[op];
+        if (bp <= minBp) break;
+        const consumed = pos;
+        const right = operands[pos] ? climb(op === '^' ? bp - 1 : bp) : empty(left.span.end);
+        if (pos === consumed && !operands[consumed]) pos++;
+        left = { kind: 'binary', span: { start: left.span.start, end: Math.max(left.span.end, right.span.end) }, op, opSpan: tokSpan(opTok, left.span), left, right };
+      }
+      return left;
+    };
+    return climb(0);
   }
 
   private primary(c: Children, span: Span): A.Expr {
@@ -327,6 +328,28 @@ export class AstBuilder {
     }
     return { kind: 'list', span, items };
   }
+}
+
+const BINDING: Record<A.BinaryOp, number> = {
+  or: 1,
+  and: 2,
+  '<': 4,
+  '<=': 4,
+  '>': 4,
+  '>=': 4,
+  '==': 4,
+  '!=': 4,
+  '+': 5,
+  '-': 5,
+  '*': 6,
+  '/': 6,
+  '^': 8,
+};
+
+function binaryOp(image: string): A.BinaryOp {
+  if (image === '\u2212') return '-';
+  if (image === '\u00b7') return '*';
+  return image as A.BinaryOp;
 }
 
 function unquote(s: string): string {

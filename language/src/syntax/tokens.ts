@@ -22,7 +22,18 @@ function matchIdent(text: string, offset: number): RegExpExecArray | null {
   identRe.lastIndex = offset;
   return identRe.exec(text);
 }
-export const Ident = createToken({ name: 'Ident', pattern: { exec: matchIdent }, line_breaks: false, label: 'a name' });
+// The hint feeds the lexer's first-character table. Above U+00FF that table works in blocks of
+// 256 code points, so one starter per block makes every letter of the Basic Multilingual Plane
+// (Greek θ and ω, Cyrillic, ...) reach the identifier pattern, which then decides.
+const identStarters = [
+  '_',
+  ...'abcdefghijklmnopqrstuvwxyzABCDEFGHIJKLMNOPQRSTUVWXYZ',
+  ...'ªµºÀÁÂÃÄÅÆÇÈÉÊËÌÍÎÏÐÑÒÓÔÕÖØÙÚÛÜÝÞßàáâãäåæçèéêëìíîïðñòóôõöøùúûüýþÿ',
+  ...Array.from({ length: 255 }, (_, b) => b + 1)
+    .filter((b) => b < 0xd8 || b > 0xdf)
+    .map((b) => String.fromCharCode(b * 256)),
+];
+export const Ident = createToken({ name: 'Ident', pattern: { exec: matchIdent }, line_breaks: false, label: 'a name', start_chars_hint: identStarters });
 
 const reservedWords = [
   'plant', 'controller', 'loop', 'param', 'let', 'state', 'input', 'output', 'linear', 'pid', 'limit',
@@ -145,7 +156,6 @@ export const allTokens: TokenType[] = [
 
 export const loopLexer = new Lexer(allTokens, {
   positionTracking: 'full',
-  ensureOptimizations: false,
   skipValidations: true,
 });
 
