@@ -9,6 +9,7 @@ import { parse } from './syntax/parse';
 import { checkNames } from './check/names';
 import type { SymbolTable } from './check/symbols';
 import type { IToken } from 'chevrotain';
+import { checkUnits, type UnitsResult } from './check/units';
 
 export interface AnalyzeOptions {
   /** Skip the unit checks (for benchmarks of the front end alone). */
@@ -20,7 +21,7 @@ export interface Analysis {
   ast: FileAst;
   symbols: SymbolTable;
   /** Unit results (SI values of literals, dimensions of expressions); absent when skipped. */
-  units?: unknown;
+  units?: UnitsResult;
   diagnostics: Diagnostic[];
   tokens: IToken[];
   /** Results of later layers, memoised per analysis by their owners (see model/ and linear/). */
@@ -35,12 +36,13 @@ export function analyze(text: string, options: AnalyzeOptions = {}): Analysis {
   let ast: FileAst = { kind: 'file', span: { start: 0, end: text.length }, blocks: [], comments: [] };
   let tokens: IToken[] = [];
   let symbols: SymbolTable = { systems: new Map(), loops: new Map(), blocks: [], refs: [], resolved: new Map() };
-  let units: unknown;
+  let units: UnitsResult | undefined;
   try {
     const parsed = parse(text, sink);
     ast = parsed.ast;
     tokens = parsed.tokens;
     symbols = checkNames(ast, sink);
+    if (!options.skipUnits) units = checkUnits(ast, symbols, sink);
   } catch (err) {
     sink.error('LW101', { start: 0, end: Math.min(1, text.length) }, `internal error while analysing (please report): ${(err as Error).message}`);
   }
