@@ -1,0 +1,319 @@
+// Entry of the response-plot page (bundled to dist/media/plot.js). It says `ready`, then draws
+// each LoopRunReport it receives; a reload redraws the last one at once from the saved state.
+// The same bundle drives the standalone HTML report, which embeds its report in the page.
+
+import type { LoopRunReport } from '../../language/src/protocol';
+import { reportToCsv } from './csv';
+import { el } from './dom';
+import { connectHost } from './host';
+import { Readout, renderLegend } from './legend';
+import { EMBEDDED_REPORT_ID, parseHostMessage, parseState, type Hidden, type HostToPage, type PlotState, type Zoom } from './messages';
+import { Plots } from './plots';
+import { composePng } from './png';
+import { runErrorText, renderResults } from './tables';
+import { readTheme, watchTheme, type Theme } from './theme';
+
+interface Layout {
+  title: HTMLElement;
+  status: HTMLElement;
+  problem: HTMLElement;
+  alerts: HTMLElement;
+  legend: HTMLElement;
+  runs: HTMLElement;
+  readout: HTMLElement;
+  panels: HTMLElement;
+  empty: HTMLElement;
+  side: HTMLElement;
+  results: HTMLElement;
+  csv: HTMLButtonElement;
+  png: HTMLButtonElement;
+  reset: HTMLButtonElement;
+}
+
+function button(text: string, id: string, hint: string): HTMLButtonElement {
+  const b = el('button', 'lw-button', text);
+  b.type = 'button';
+  b.id = id;
+  b.title = hint;
+  b.disabled = true;
+  return b;
+}
+
+function buildLayout(root: HTMLElement): Layout {
+  const app = el('div', 'lw-app');
+  const bar = el('header', 'lw-toolbar');
+  const title = el('h1', 'lw-title', 'Loopwright');
+  const status = el('span', 'lw-status');
+  status.setAttribute('role', 'status');
+  status.setAttribute('aria-live', 'polite');
+  const actions = el('div', 'lw-actions');
+  const reset = button('Reset zoom', 'lw-reset-zoom', 'Show the whole run (or double-click a plot)');
+  const csv = button('Export CSV', 'lw-export-csv', 'Every run as comma-separated values');
+  const png = button('Export PNG', 'lw-export-png', 'All panels as one image');
+  actions.append(reset, csv, png);
+  bar.append(title, status, actions);
+
+  const problem = el('div', 'lw-problem');
+  problem.setAttribute('role', 'alert');
+  problem.hidden = true;
+  const alerts = el('div', 'lw-alerts');
+
+  const body = el('div', 'lw-body');
+  const plots = el('div', 'lw-plots');
+  const legend = el('div', 'lw-legend');
+  legend.setAttribute('role', 'group');
+  legend.setAttribute('aria-label', 'Signals (toggle in every run)');
+  const runs = el('div', 'lw-legend lw-legend-runs');
+  runs.setAttribute('role', 'group');
+  runs.setAttribute('aria-label', 'Runs');
+  const readout = el('div', 'lw-readout');
+  const panels = el('div', 'lw-panels');
+  const empty = el('p', 'lw-empty', 'Waiting for a run…');
+  plots.append(legend, runs, readout, panels, empty);
+  // Reserved for the tuning side panel (parameter sliders, s-plane pole map): laid out beside
+  // the plots, hidden until it has content.
+  const side = el('aside', 'lw-side');
+  side.setAttribute('aria-label', 'Tuning');
+  side.hidden = true;
+  body.append(plots, side);
+
+  const results = el('section', 'lw-results');
+  results.setAttribute('aria-label', 'Run results');
+  app.append(bar, problem, alerts, body, results);
+  root.replaceChildren(app);
+  return { title, status, problem, alerts, legend, runs, readout, panels, empty, side, results, csv, png, reset };
+}
+
+class App {
+  private readonly ui: Layout;
+  private state: PlotState | null = null;
+  private plots: Plots | null = null;
+  private readout: Readout | null = null;
+  private theme: Theme = readTheme();
+  private drawCount = 0;
+  private buildStart = 0;
+  private readonly host = connectHost(() => (this.state?.report.loop || 'loop').replace(/[^\w.-]+/g, '_'));
+
+  constructor(root: HTMLElement) {
+    this.ui = buildLayout(root);
+    this.ui.csv.addEventListener('click', () => this.exportCsv());
+    this.ui.png.addEventListener('click', () => this.exportPng());
+    this.ui.reset.addEventListener('click', () => this.plots?.applyZoom(null));
+    window.addEventListener('message', (e: MessageEvent) => this.receive(e.data));
+    watchTheme(() => this.redraw());
+    let width = 0;
+    new ResizeObserver(() => {
+      const w = this.panelWidth();
+      if (w !== width) {
+        width = w;
+        this.plots?.setWidth(w);
+      }
+    }).observe(this.ui.panels);
+  }
+
+  start(): void {
+    const embedded = document.getElementById(EMBEDDED_REPORT_ID);
+    const saved = parseState(this.host.getState());
+    if (saved) {
+      try {
+        this.show(saved);
+      } catch (e) {
+        this.problem(`Could not redraw the saved plot: ${e instanceof Error ? e.message : String(e)}`);
+      }
+    } else if (embedded) {
+      let data: unknown;
+      try {
+        data = JSON.parse(embedded.textContent ?? '');
+      } catch (e) {
+        this.problem(`The embedded report is not valid JSON (${e instanceof Error ? e.message : String(e)}).`);
+      }
+      if (data !== undefined) this.receive({ type: 'report', report: data });
+    }
+    this.host.post({ type: 'ready' });
+  }
+
+  private receive(data: unknown): void {
+    const parsed = parseHostMessage(data);
+    if (!parsed.ok) {
+      this.problem(`Ignored a malformed message: ${parsed.error}.`);
+      return;
+    }
+    this.problem(null);
+    try {
+      this.handle(parsed.value);
+    } catch (e) {
+      this.problem(`Could not draw the report: ${e instanceof Error ? e.message : String(e)}`);
+    }
+  }
+
+  private handle(m: HostToPage): void {
+    switch (m.type) {
+      case 'report':
+        this.show({ report: m.report, zoom: null, hidden: this.state?.hidden ?? { signals: [], runs: [] } });
+        break;
+      case 'theme':
+        this.redraw();
+        break;
+      case 'status':
+        this.setStatus(m.kind, m.message, m.line);
+        break;
+    }
+  }
+
+  private setStatus(kind: 'running' | 'idle' | 'error', message?: string, line?: number): void {
+    const s = this.ui.status;
+    s.dataset.kind = kind;
+    document.body.classList.toggle('lw-running', kind === 'running');
+    if (kind === 'idle') s.textContent = '';
+    else if (kind === 'running') s.textContent = message ? `Running… ${message}` : 'Running…';
+    else s.textContent = `${line ? `Line ${line}: ` : ''}${message ?? 'The run failed.'}`;
+  }
+
+  /** Shows a problem of the page itself (bad message, internal error); null clears it. */
+  problem(text: string | null): void {
+    this.ui.problem.hidden = text === null;
+    this.ui.problem.textContent = text ?? '';
+    if (text !== null) this.host.post({ type: 'error', message: text });
+  }
+
+  private panelWidth(): number {
+    return Math.max(320, Math.floor(this.ui.panels.clientWidth || document.documentElement.clientWidth - 24));
+  }
+
+  private show(state: PlotState): void {
+    this.state = state;
+    this.render();
+    this.save();
+  }
+
+  private redraw(): void {
+    this.theme = readTheme();
+    if (this.state) this.render();
+  }
+
+  private render(): void {
+    const st = this.state!;
+    const { report } = st;
+    this.buildStart = performance.now();
+    this.plots?.destroy();
+    this.plots = null;
+    this.theme = readTheme();
+    document.title = `Loopwright — ${report.loop}`;
+    this.ui.title.textContent = report.file ? `${report.loop} — ${report.file}` : report.loop;
+    this.renderAlerts(report);
+    renderLegend({ report, theme: this.theme, hidden: st.hidden, signalsBox: this.ui.legend, runsBox: this.ui.runs, onToggle: (h) => this.toggle(h) });
+    renderResults(this.ui.results, report);
+    this.plots = new Plots({
+      report,
+      theme: this.theme,
+      zoom: st.zoom,
+      hidden: st.hidden,
+      container: this.ui.panels,
+      width: this.panelWidth(),
+      onZoom: (z) => this.zoomed(z),
+      onCursor: (idx) => this.readout?.update(idx),
+      onDrawn: () => this.drawn(),
+    });
+    this.readout = new Readout(this.ui.readout, this.plots, report.signals);
+    const any = this.plots.panels.length > 0;
+    this.ui.empty.hidden = any;
+    this.ui.empty.textContent = any ? '' : report.runs.length === 0 ? 'The report has no runs.' : 'The runs have no samples to plot.';
+    this.ui.readout.hidden = !any;
+    this.ui.csv.disabled = false;
+    this.ui.png.disabled = !any;
+    this.ui.reset.disabled = !any;
+  }
+
+  private renderAlerts(report: LoopRunReport): void {
+    this.ui.alerts.replaceChildren();
+    for (const run of report.runs) {
+      if (!run.error) continue;
+      const a = el('div', 'lw-alert', runErrorText(run));
+      a.setAttribute('role', 'alert');
+      this.ui.alerts.append(a);
+    }
+  }
+
+  private drawn(): void {
+    this.drawCount++;
+    document.body.dataset.drawCount = String(this.drawCount);
+    const ms = performance.now() - this.buildStart;
+    document.dispatchEvent(new CustomEvent('loopwright:drawn', { detail: { count: this.drawCount, ms } }));
+  }
+
+  private zoomed(zoom: Zoom): void {
+    if (!this.state) return;
+    this.state = { ...this.state, zoom };
+    this.save();
+  }
+
+  private toggle(hidden: Hidden): void {
+    if (!this.state || !this.plots) return;
+    this.state = { ...this.state, hidden };
+    this.plots.setHidden(hidden);
+    renderLegend({ report: this.state.report, theme: this.theme, hidden, signalsBox: this.ui.legend, runsBox: this.ui.runs, onToggle: (h) => this.toggle(h) });
+    const focus = document.activeElement;
+    if (focus instanceof HTMLElement && !focus.isConnected) this.refocus(focus);
+    this.readout?.refresh();
+    this.save();
+  }
+
+  /** Keeps keyboard focus on the legend entry that was just toggled (the legend was rebuilt). */
+  private refocus(old: HTMLElement): void {
+    const key = old.dataset.signal !== undefined ? ['signal', old.dataset.signal] : ['run', old.dataset.run];
+    const next = [...this.ui.legend.children, ...this.ui.runs.children].find((b) => b instanceof HTMLElement && b.dataset[key[0]!] === key[1]);
+    if (next instanceof HTMLElement) next.focus();
+  }
+
+  private save(): void {
+    if (this.state) this.host.setState(this.state);
+  }
+
+  private exportCsv(): void {
+    if (!this.state) return;
+    this.host.post({ type: 'exportCsv', csv: reportToCsv(this.state.report) });
+  }
+
+  private exportPng(): void {
+    if (!this.state || !this.plots) return;
+    const title = this.ui.title.textContent ?? this.state.report.loop;
+    this.host.post({ type: 'exportPng', dataUrl: composePng(title, this.plots.panels, this.theme) });
+  }
+
+  /** Plain-data view of what is drawn, for tests and for debugging from the devtools console. */
+  describe() {
+    return {
+      drawCount: this.drawCount,
+      theme: this.theme,
+      zoom: this.state?.zoom ?? null,
+      hidden: this.state?.hidden ?? null,
+      panels: (this.plots?.panels ?? []).map((p) => ({
+        group: p.group,
+        signals: p.signals.map((s) => s.name),
+        series: p.series.map((m) => ({ ...m, dash: [...m.dash] })),
+        limits: p.limits.map((l) => ({ ...l })),
+        bands: p.bands.map((b) => ({ ...b })),
+        xRange: { min: p.plot.scales.x.min ?? null, max: p.plot.scales.x.max ?? null },
+        bbox: { ...p.plot.bbox },
+      })),
+    };
+  }
+}
+
+function boot(): void {
+  let root = document.getElementById('lw-root');
+  if (!root) {
+    root = el('div');
+    root.id = 'lw-root';
+    document.body.append(root);
+  }
+  const app = new App(root);
+  const report = (e: unknown) => app.problem(`The page hit an internal error: ${e instanceof Error ? e.message : String(e)}`);
+  window.addEventListener('error', (e) => report(e.error ?? e.message));
+  window.addEventListener('unhandledrejection', (e) => report(e.reason));
+  (window as unknown as { loopwrightPlot: { describe(): unknown } }).loopwrightPlot = { describe: () => app.describe() };
+  app.start();
+}
+
+if (document.readyState === 'loading') document.addEventListener('DOMContentLoaded', boot, { once: true });
+else boot();
