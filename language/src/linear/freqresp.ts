@@ -14,12 +14,12 @@
 //                                                       magnitudes (default 3 decades each side)
 
 import { cAbs, cArg, type Complex } from './complex';
-import { evalSiso, type StateSpace } from './lti';
+import { sisoEvaluator, type StateSpace } from './lti';
 
 export type TransferFn = (s: Complex) => Complex;
 
 export function transferOf(ss: StateSpace, out = 0, input = 0): TransferFn {
-  return (s) => evalSiso(ss, s, out, input);
+  return sisoEvaluator(ss, out, input);
 }
 
 /** L(jω) */

@@ -9,6 +9,8 @@
 //   evalTransfer(ss, s)      → { ok, G: p×m complex matrix, problem? }, G(s) = C (sI − A)⁻¹ B + D,
 //                              solving (sI − A) X = B by complex LU with partial pivoting.
 //   evalSiso(ss, s, out, in) → one entry of G(s) as a Complex (non-finite parts at a pole).
+//   sisoEvaluator(ss, out, in) → (s) => Complex: the same value as evalSiso, checked once and
+//                              evaluated on preallocated arrays (for frequency sweeps).
 //   siso(ss, out, in)        → the single-input single-output path as its own StateSpace.
 //   gain(k, m?, p?)          → a state-less system D = k.
 
@@ -108,3 +110,67 @@ export function gain(k: number, m = 1, p = 1): StateSpace {
 }
 
 export { rows, cols };
+
+/** A fast evaluator of one entry of G(s) for repeated use; NaN parts at a pole or for a bad system. */
+export function sisoEvaluator(ss: StateSpace, out = 0, input = 0): (s: Complex) => Complex {
+  const bad = checkStateSpace(ss);
+  const { n, m, p } = bad ? { n: 0, m: 0, p: 0 } : ssDims(ss);
+  if (bad || !(out >= 0 && out < p && input >= 0 && input < m)) return () => ({ re: NaN, im: NaN });
+  const d = ss.D[out][input];
+  if (n === 0) return () => ({ re: d, im: 0 });
+  const A = Float64Array.from(ss.A.flat());
+  const b = Float64Array.from(ss.B.map((r) => r[input]));
+  const c = Float64Array.from(ss.C[out]);
+  const mr = new Float64Array(n * n), mi = new Float64Array(n * n);
+  const xr = new Float64Array(n), xi = new Float64Array(n);
+  return (s) => {
+    for (let k = 0; k < n * n; k++) { mr[k] = -A[k]; mi[k] = 0; }
+    for (let k = 0; k < n; k++) { mr[k * n + k] += s.re; mi[k * n + k] = s.im; xr[k] = b[k]; xi[k] = 0; }
+    // Gaussian elimination with partial pivoting on (sI − A) x = b.
+    for (let k = 0; k < n; k++) {
+      let piv = k, best = -1;
+      for (let i = k; i < n; i++) {
+        const v = Math.abs(mr[i * n + k]) + Math.abs(mi[i * n + k]);
+        if (v > best) { best = v; piv = i; }
+      }
+      if (!(best > 0)) return { re: NaN, im: NaN };
+      if (piv !== k) {
+        for (let j = 0; j < n; j++) {
+          let t = mr[k * n + j]; mr[k * n + j] = mr[piv * n + j]; mr[piv * n + j] = t;
+          t = mi[k * n + j]; mi[k * n + j] = mi[piv * n + j]; mi[piv * n + j] = t;
+        }
+        let t = xr[k]; xr[k] = xr[piv]; xr[piv] = t;
+        t = xi[k]; xi[k] = xi[piv]; xi[piv] = t;
+      }
+      const pr = mr[k * n + k], pi = mi[k * n + k], den = pr * pr + pi * pi;
+      const ir = pr / den, ii = -pi / den;
+      for (let i = k + 1; i < n; i++) {
+        const ar = mr[i * n + k], ai = mi[i * n + k];
+        if (ar === 0 && ai === 0) continue;
+        const fr = ar * ir - ai * ii, fi = ar * ii + ai * ir;
+        for (let j = k; j < n; j++) {
+          const br = mr[k * n + j], bi = mi[k * n + j];
+          mr[i * n + j] -= fr * br - fi * bi;
+          mi[i * n + j] -= fr * bi + fi * br;
+        }
+        const yr = xr[k], yi = xi[k];
+        xr[i] -= fr * yr - fi * yi;
+        xi[i] -= fr * yi + fi * yr;
+      }
+    }
+    let gr = d, gi = 0;
+    for (let i = n - 1; i >= 0; i--) {
+      let sr = xr[i], si = xi[i];
+      for (let j = i + 1; j < n; j++) {
+        sr -= mr[i * n + j] * xr[j] - mi[i * n + j] * xi[j];
+        si -= mr[i * n + j] * xi[j] + mi[i * n + j] * xr[j];
+      }
+      const pr = mr[i * n + i], pi = mi[i * n + i], den = pr * pr + pi * pi;
+      xr[i] = (sr * pr + si * pi) / den;
+      xi[i] = (si * pr - sr * pi) / den;
+      gr += c[i] * xr[i];
+      gi += c[i] * xi[i];
+    }
+    return { re: gr, im: gi };
+  };
+}

@@ -165,23 +165,27 @@ function phaseCrossings(L: TransferFn, g: Sample[], D: number): PhaseCrossing[] 
   };
   const L0 = atOmega(L, 0);
   if (finite(L0) && L0.re < 0 && Math.abs(L0.im) <= 1e-12 * cAbs(L0)) add(0, L0);
+  // Continuous phase along the grid (restarted after a non-finite sample), so that each crossing
+  // of −180° + 360°·k falls in exactly one interval, by the half-open rule h < 0 versus h ≥ 0.
+  let pa = NaN;
   for (let i = 1; i < g.length; i++) {
     const a = g[i - 1], b = g[i];
-    if (!finite(a.v) || !finite(b.v)) continue;
-    // Continuous phase across the interval, measured from a; look for −180° + 360°·k.
-    const pa = deg(a.v), pb = pa + deg(cDiv(b.v, a.v));
-    const ka = Math.floor((pa + 180) / 360), kb = Math.floor((pb + 180) / 360);
-    if (ka === kb) continue;
-    const target = -180 + 360 * Math.max(ka, kb);
-    const h = (u: number): number => {
-      const z = atOmega(L, Math.exp(u));
-      return pa + deg(cDiv(z, a.v)) - target;
-    };
-    const u = brentRoot(h, Math.log(a.w), Math.log(b.w));
-    if (u === null) continue;
-    const w = Math.exp(u), z = atOmega(L, w);
-    // A phase jump at a zero or pole on the axis is not a crossing: require L real negative.
-    if (finite(z) && z.re < 0 && Math.abs(z.im) <= 1e-6 * cAbs(z)) add(w, z);
+    if (!finite(a.v) || !finite(b.v)) { pa = NaN; continue; }
+    if (!Number.isFinite(pa)) pa = deg(a.v);
+    const base = pa;
+    const phase = (z: Complex): number => base + deg(cDiv(z, a.v));
+    const pb = phase(b.v);
+    pa = pb;
+    const lo = Math.min(base, pb), hi = Math.max(base, pb);
+    for (let k = Math.ceil((lo + 180) / 360); -180 + 360 * k <= hi; k++) {
+      const target = -180 + 360 * k;
+      if (base - target < 0 === pb - target < 0) continue;
+      const u = brentRoot((x) => phase(atOmega(L, Math.exp(x))) - target, Math.log(a.w), Math.log(b.w));
+      if (u === null) continue;
+      const w = Math.exp(u), z = atOmega(L, w);
+      // A phase jump at a zero or pole on the axis is not a crossing: require L real negative.
+      if (finite(z) && z.re < 0 && Math.abs(z.im) <= 1e-6 * cAbs(z)) add(w, z);
+    }
   }
   if (D < 0) add(Infinity, { re: D, im: 0 });
   return out;
@@ -189,12 +193,12 @@ function phaseCrossings(L: TransferFn, g: Sample[], D: number): PhaseCrossing[] 
 
 function sensitivityPeak(L: TransferFn, g: Sample[]): { peak: number; omega: number } {
   const S = (w: number): number => 1 / cAbs(cAdd({ re: 1, im: 0 }, atOmega(L, w)));
+  const Sg = g.map((p) => 1 / cAbs(cAdd({ re: 1, im: 0 }, p.v)));
   let best = 0;
-  for (let i = 1; i < g.length; i++) if (!(S(g[best].w) >= S(g[i].w))) best = i;
+  for (let i = 1; i < g.length; i++) if (!(Sg[best] >= Sg[i])) best = i;
   const lo = g[Math.max(0, best - 1)].w, hi = g[Math.min(g.length - 1, best + 1)].w;
-  const u = goldenMax((x) => S(Math.exp(x)), Math.log(lo), Math.log(hi));
-  const w = Math.exp(u);
-  const [peak, omega] = S(w) >= S(g[best].w) ? [S(w), w] : [S(g[best].w), g[best].w];
+  const w = Math.exp(goldenMax((x) => S(Math.exp(x)), Math.log(lo), Math.log(hi)));
+  const [peak, omega] = S(w) >= Sg[best] ? [S(w), w] : [Sg[best], g[best].w];
   const S0 = S(0);
   return Number.isFinite(S0) && S0 > peak ? { peak: S0, omega: 0 } : { peak, omega };
 }

@@ -30,6 +30,8 @@ interface Piece {
 
 export interface NyquistPath {
   pieces: Piece[];
+  /** L at each piece's base samples, kept per transfer function so that several points q share them. */
+  cache: WeakMap<TransferFn, Complex[][]>;
 }
 
 export interface PathOptions {
@@ -63,7 +65,7 @@ export function nyquistPath(o: PathOptions): NyquistPath {
       if (!(b > a)) return;
     }
     const la = Math.log(a), lb = Math.log(b);
-    pieces.push({ at: (t) => ({ re: 0, im: Math.exp(la + (lb - la) * t) }), samples: Math.max(16, Math.ceil((lb - la) * 60)), twice: true });
+    pieces.push({ at: (t) => ({ re: 0, im: Math.exp(la + (lb - la) * t) }), samples: Math.max(16, Math.ceil((lb - la) * 20)), twice: true });
   };
   for (const p of poles) {
     if (p === 0) continue;
@@ -73,7 +75,7 @@ export function nyquistPath(o: PathOptions): NyquistPath {
     w = p + r;
   }
   axis(w, Math.max(o.omegaMax, w * 10));
-  return { pieces };
+  return { pieces, cache: new WeakMap() };
 }
 
 export interface Winding {
@@ -89,9 +91,15 @@ const MAX_DEPTH = 40;
 
 export function windingNumber(L: TransferFn, q: Complex, path: NyquistPath): Winding {
   let total = 0, minDistance = Infinity;
-  for (const piece of path.pieces) {
+  let base = path.cache.get(L);
+  if (!base) {
+    base = path.pieces.map((piece) => Array.from({ length: piece.samples + 1 }, (_, i) => L(piece.at(i / piece.samples))));
+    path.cache.set(L, base);
+  }
+  for (const [pi, piece] of path.pieces.entries()) {
     let angle = 0;
     const f = (t: number): Complex => cSub(L(piece.at(t)), q);
+    const fb = (i: number): Complex => cSub(base[pi][i], q);
     const walk = (t0: number, f0: Complex, t1: number, f1: Complex, depth: number): void => {
       const d = cArg(cDiv(f1, f0));
       const near = Math.min(cAbs(f0), cAbs(f1));
@@ -102,10 +110,10 @@ export function windingNumber(L: TransferFn, q: Complex, path: NyquistPath): Win
       walk(t0, f0, tm, fm, depth + 1);
       walk(tm, fm, t1, f1, depth + 1);
     };
-    let tPrev = 0, fPrev = f(0);
+    let tPrev = 0, fPrev = fb(0);
     minDistance = Math.min(minDistance, cAbs(fPrev));
     for (let i = 1; i <= piece.samples; i++) {
-      const t = i / piece.samples, ft = f(t);
+      const t = i / piece.samples, ft = fb(i);
       minDistance = Math.min(minDistance, cAbs(ft));
       walk(tPrev, fPrev, t, ft, 0);
       tPrev = t; fPrev = ft;
@@ -113,5 +121,5 @@ export function windingNumber(L: TransferFn, q: Complex, path: NyquistPath): Win
     total += piece.twice ? 2 * angle : angle;
   }
   const exact = total / (2 * Math.PI);
-  return { turns: Math.round(exact), exact, minDistance };
+  return { turns: Math.round(exact) + 0, exact, minDistance };
 }
