@@ -1,6 +1,6 @@
-// The equilibrium test of one operating point (see equilibrium.ts for the check). Each declared state derivative is evaluated there and
-// judged against the terms that make it up (LANGUAGE.md §5): for x' = a − b + c the residual
-// r = a − b + c is negligible when |r| ≤ 1e-9·(|a| + |b| + |c|) + floor.
+// The equilibrium test of one operating point (equilibrium.ts turns it into diagnostics). Each
+// declared state derivative is evaluated there and judged against the terms that make it up
+// (LANGUAGE.md §5): for x' = a − b + c the residual r = a − b + c is negligible when |r| ≤ 1e-9·(|a| + |b| + |c|) + floor.
 //
 // "The terms that make it up" are measured through products and quotients too, so that
 // x' = (q_in − k·sqrt(h))/area is judged by (|q_in| + |k·sqrt(h)|)/|area| and not by its own

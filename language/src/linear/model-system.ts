@@ -136,7 +136,7 @@ export function systemModel(analysis: Analysis, sym: SystemSymbol, overrides?: R
   for (const [name, decl] of sym.limits) {
     const ii = inputIdx.get(name), oi = outputIdx.get(name);
     if (ii === undefined && oi === undefined) continue;
-    limits.push({ on: ii !== undefined ? 'input' : 'output', index: (ii ?? oi)!, name, lo: constOf(decl.lo), hi: constOf(decl.hi), span: decl.span });
+    limits.push({ on: ii !== undefined ? 'input' : 'output', index: (ii ?? oi)!, name, lo: constOf(decl.lo), hi: constOf(decl.hi), span: decl.span.end > decl.span.start ? decl.span : { start: decl.target.span.start, end: decl.hi.span.end } });
   }
   const inputLimit = new Map(limits.filter((l) => l.on === 'input').map((l) => [l.index, l]));
   const outputLimit = new Map(limits.filter((l) => l.on === 'output').map((l) => [l.index, l]));
