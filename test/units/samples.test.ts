@@ -6,6 +6,7 @@ import { readFileSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { runUnits } from './helpers';
+import { analyze } from '../../language/src/analysis';
 
 const root = join(__dirname, '..', '..', 'samples');
 
@@ -17,7 +18,9 @@ describe('unit family samples check clean', () => {
   });
   for (const f of files) {
     it(f, () => {
-      const run = runUnits(readFileSync(join(dir, f), 'utf8'));
+      const text = readFileSync(join(dir, f), 'utf8');
+      expect(analyze(text).diagnostics.filter((d) => d.severity !== 'info')).toEqual([]);
+      const run = runUnits(text);
       expect(run.front.filter((d) => d.severity !== 'info')).toEqual([]);
       expect(run.units).toEqual([]);
       // every quantity literal has a finite SI value
