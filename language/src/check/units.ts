@@ -34,7 +34,7 @@ import { pathText } from '../syntax/ast';
 import type { LoopSymbol, MemberSymbol, SymbolTable, SystemSymbol } from './symbols';
 import { PER_TIME, TIME, type Dim, dimDiv, dimEq, dimMul, isDimless } from '../units/dimension';
 import type { ParsedUnit } from '../units/registry';
-import { describe, hintText, mulFactors, type Factors } from '../units/format';
+import { describe, hintUnit, mulFactors, type Factors } from '../units/format';
 import { DIMLESS_WANT, Inference, TIME_WANT, type Q, type Want } from './units-expr';
 
 export interface UnitsResult {
@@ -42,8 +42,12 @@ export interface UnitsResult {
   dims: Map<Expr, Dim>;
   /** Declaration (StateDecl / InputDecl / OutputDecl) -> its parsed unit. */
   declared: Map<object, ParsedUnit>;
-  /** Param, let and signal declarations -> the inferred unit, for inlay hints. */
-  inferred: Map<object, { dim: Dim; text: string }>;
+  /**
+   * Param, let and signal declarations -> the inferred unit, for inlay hints: in the user's own
+   * units where they combine into one (`kg*m^2`, `kN*mm`), else SI base units. `unit` converts
+   * the SI value for display.
+   */
+  inferred: Map<object, { dim: Dim; text: string; unit: ParsedUnit }>;
   /** SI value and unit of each quantity literal. */
   quantities: Map<QuantityExpr, { si: number; unit: ParsedUnit }>;
 }
@@ -91,9 +95,11 @@ class Checker {
 
   private hint(decl: ParamDecl | { value: Expr }, q: Q | undefined): void {
     if (!q) return;
-    const v = decl.value;
-    const text = v.kind === 'quantity' && q.factors.length ? v.unit.text : hintText(q.factors, q.dim);
-    this.result.inferred.set(decl, { dim: q.dim, text });
+    let v = decl.value;
+    while (v.kind === 'unary' && v.op !== 'not') v = v.operand;
+    const written = v.kind === 'quantity' ? this.result.quantities.get(v)?.unit : undefined;
+    const unit = written ?? hintUnit(q.factors, q.dim);
+    this.result.inferred.set(decl, { dim: q.dim, text: unit.text, unit });
   }
 
   private memberOf(sys: SystemSymbol | undefined, name: Ident): MemberSymbol | undefined {
@@ -371,7 +377,7 @@ function replaceUnit(decl: StateDecl | OutputDecl, what: string): (q: Q) => Quic
 
 function replaceUnitWith(decl: StateDecl | OutputDecl, q: { dim: Dim; factors: Factors }, what: string): QuickFix[] {
   if (!decl.unit || isDimless(q.dim) && q.factors.length === 0) return [];
-  const text = hintText(q.factors, q.dim);
+  const text = hintUnit(q.factors, q.dim).text;
   if (text === decl.unit.text) return [];
   return [{ title: `Change the unit of ${decl.name.name} to [${text}] (as its ${what} gives)`, edits: [{ span: decl.unit.span, newText: text }] }];
 }

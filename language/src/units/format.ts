@@ -4,8 +4,8 @@
 // (`N*m/rad` times `s` gives N, m, s, rad^-1). They cancel and combine by name only; no
 // conversion happens here. `describe` shows them next to the SI base form when the two differ.
 
-import { type Dim, DIM_TOLERANCE, formatDim, isDimless, joinFactors } from './dimension';
-import { parseUnit, type UnitFactor } from './registry';
+import { type Dim, DIM_TOLERANCE, dimEq, formatDim, isDimless, joinFactors } from './dimension';
+import { parseUnit, siUnit, type ParsedUnit, type UnitFactor } from './registry';
 
 export type Factors = readonly UnitFactor[];
 
@@ -44,13 +44,13 @@ export function describe(a: Factors, dim: Dim): string {
 }
 
 /**
- * A unit text for a hint: the user's factors when they form a coherent unit (scale 1, such as
- * kg*m^2 or N*m/rad) and read back to the same dimension, else the SI base form.
+ * A unit for a hint, in the user's own units: the factors as written (`kg*m^2`, `kN*mm`, `rpm`)
+ * when they read back as a unit of the same dimension, else the SI base form.
  */
-export function hintText(a: Factors, dim: Dim): string {
-  if (a.length === 0 || !integral(a)) return formatDim(dim);
-  const text = joinFactors(a);
-  const r = parseUnit(text);
-  if (r.ok && Math.abs(r.unit.scale - 1) < 1e-12 && r.unit.offset === 0) return text;
-  return formatDim(dim);
+export function hintUnit(a: Factors, dim: Dim): ParsedUnit {
+  if (a.length && integral(a)) {
+    const r = parseUnit(joinFactors(a));
+    if (r.ok && dimEq(r.unit.dim, dim)) return r.unit;
+  }
+  return siUnit(dim);
 }
