@@ -1,0 +1,268 @@
+// Step-response metrics of one signal over a run, exactly as LANGUAGE.md §4.3 defines them:
+// initial and final values, Δ = |final − initial|, 10–90 % rise, overshoot beyond final in the
+// direction of the change relative to Δ, settling as the last time outside a band around final
+// (relative to Δ for a dimensionless band, absolute otherwise), peak |y|, IAE.
+// Samples are the union of the output grid and every accepted step's end (so nothing between
+// grid points is missed); crossing times are interpolated linearly between neighbouring samples.
+
+/** Samples of one signal in SI, times ascending. */
+export interface Samples {
+  t: ArrayLike<number>;
+  y: ArrayLike<number>;
+}
+
+export interface RawMetrics {
+  initial: number;
+  final: number;
+  peak: number;
+  rise: number | null;
+  overshoot: number | null;
+  settling: number | null;
+}
+
+/** Changes smaller than this fraction of the signal's size count as no change. */
+const STILL = 1e-12;
+
+export function changeOf(s: Samples): { initial: number; final: number; delta: number; still: boolean } {
+  const n = s.y.length;
+  const initial = s.y[0], final = s.y[n - 1];
+  const delta = Math.abs(final - initial);
+  const size = Math.max(Math.abs(initial), Math.abs(final), 1e-300);
+  return { initial, final, delta, still: !(delta > STILL * size) };
+}
+
+export function peakOf(s: Samples): number {
+  let p = 0;
+  for (let i = 0; i < s.y.length; i++) p = Math.max(p, Math.abs(s.y[i]));
+  return p;
+}
+
+/** First time y reaches `level` moving from below (dir = 1) or above (dir = -1). */
+function firstCrossing(s: Samples, level: number, dir: number): number | null {
+  const { t, y } = s;
+  if (dir * (y[0] - level) >= 0) return t[0];
+  for (let i = 1; i < y.length; i++) {
+    if (dir * (y[i] - level) >= 0) {
+      const a = y[i - 1] - level, b = y[i] - level;
+      const f = a === b ? 1 : a / (a - b);
+      return t[i - 1] + f * (t[i] - t[i - 1]);
+    }
+  }
+  return null;
+}
+
+export function riseOf(s: Samples): number | null {
+  const c = changeOf(s);
+  if (c.still) return null;
+  const dir = Math.sign(c.final - c.initial);
+  const t10 = firstCrossing(s, c.initial + 0.1 * (c.final - c.initial), dir);
+  const t90 = firstCrossing(s, c.initial + 0.9 * (c.final - c.initial), dir);
+  return t10 === null || t90 === null ? null : t90 - t10;
+}
+
+export function overshootOf(s: Samples): number | null {
+  const c = changeOf(s);
+  if (c.still) return null;
+  const dir = Math.sign(c.final - c.initial);
+  let worst = 0;
+  for (let i = 0; i < s.y.length; i++) worst = Math.max(worst, dir * (s.y[i] - c.final));
+  return worst / c.delta;
+}
+
+/**
+ * Last time y is outside final ± width; the start time when it never leaves the band after it,
+ * null when the band has no width (a still signal with a relative band).
+ */
+export function settlingOf(s: Samples, width: number): number | null {
+  const { t, y } = s;
+  const n = y.length;
+  if (!(width > 0)) return null;
+  const final = y[n - 1];
+  for (let i = n - 1; i >= 0; i--) {
+    const dev = Math.abs(y[i] - final);
+    if (dev > width) {
+      if (i === n - 1) return t[i];
+      // crossing of |y − final| = width between samples i and i+1
+      const a = dev - width, b = Math.abs(y[i + 1] - final) - width;
+      const f = a === b ? 0 : a / (a - b);
+      return t[i] + f * (t[i + 1] - t[i]);
+    }
+  }
+  return t[0];
+}
+
+/** Band width: relative bands scale with Δ, absolute bands are used as they are (SI). */
+export function bandWidth(s: Samples, band: number, relative: boolean): number {
+  return relative ? band * changeOf(s).delta : band;
+}
+
+export function rawMetrics(s: Samples, band = 0.02): RawMetrics {
+  const c = changeOf(s);
+  return {
+    initial: c.initial,
+    final: c.final,
+    peak: peakOf(s),
+    rise: riseOf(s),
+    overshoot: overshootOf(s),
+    settling: c.still ? null : settlingOf(s, band * c.delta),
+  };
+}
+
+// Gauss–Legendre 3-point rule on [0, 1] (nodes 1/2 ∓ √15/10, weights 5/18, 8/18, 5/18).
+export const GL3_NODES = [0.5 - Math.sqrt(15) / 10, 0.5, 0.5 + Math.sqrt(15) / 10] as const;
+export const GL3_WEIGHTS = [5 / 18, 8 / 18, 5 / 18] as const;
+
+// ---------- expects ----------
+
+import type { Compiled } from '../model/compile';
+import { signalName } from '../model/compile';
+import type { TracedSignal } from '../model/types';
+import { displayUnit, isPureNumberUnit, toDisplay } from '../model/units';
+import type { ExpectResult } from '../protocol';
+import type { Expr } from '../syntax/ast';
+import { pathText } from '../syntax/ast';
+import type { RunSpec } from './sweep';
+
+export interface ExpectData {
+  traced: TracedSignal[];
+  t: number[];
+  y: number[][];
+  iae: Float64Array;
+  /** Intervals at each loop limit, by limit index. */
+  atLimit: Array<Array<[number, number]>>;
+  duration: number;
+  complete: boolean;
+}
+
+class ExpectError extends Error {}
+
+const TIME_METRICS = new Set(['settling', 'rise']);
+
+/** Checks every `expect` of the loop against one run's data. */
+export function evaluateExpects(c: Compiled, spec: RunSpec, d: ExpectData): ExpectResult[] {
+  return spec.expects.map((ex) => {
+    const text = c.text.slice(ex.span.start, ex.span.end).replace(/\s+/g, ' ').trim();
+    const test = ex.test;
+    const base = { text, span: ex.span };
+    if (test.kind !== 'binary' || !['<', '<=', '>', '>=', '==', '!='].includes(test.op)) {
+      return { ...base, pass: false, measured: null, measuredText: '', error: 'not a comparison' };
+    }
+    if (!d.complete) return { ...base, pass: false, measured: null, measuredText: '', error: 'the run did not finish' };
+    try {
+      const left = value(c, d, test.left);
+      const right = value(c, d, test.right);
+      const pass = compare(test.op, left, right);
+      // measured value in the unit of the right-hand side when it has one
+      let unit = test.right.kind === 'quantity' ? displayUnit(test.right.unit.text) : undefined;
+      if (!unit && isTimeMetric(test.left)) unit = displayUnit('s');
+      const measured = unit ? toDisplay(left, unit) : left;
+      const shown = Number(measured.toPrecision(4));
+      const measuredText = unit && unit.text ? `${shown} ${unit.text}` : `${shown}`;
+      return { ...base, pass, measured, measuredText };
+    } catch (e) {
+      return { ...base, pass: false, measured: null, measuredText: '', error: (e as Error).message };
+    }
+  });
+}
+
+function isTimeMetric(e: Expr): boolean {
+  return e.kind === 'call' && TIME_METRICS.has(e.callee.name);
+}
+
+function compare(op: string, a: number, b: number): boolean {
+  switch (op) {
+    case '<': return a < b;
+    case '<=': return a <= b;
+    case '>': return a > b;
+    case '>=': return a >= b;
+    case '==': return Math.abs(a - b) <= 1e-9 * Math.max(1, Math.abs(a), Math.abs(b));
+    default: return !(Math.abs(a - b) <= 1e-9 * Math.max(1, Math.abs(a), Math.abs(b)));
+  }
+}
+
+function samplesOf(c: Compiled, d: ExpectData, e: Expr): { s: Samples; j: number } {
+  const name = signalName(e, c.text);
+  const j = d.traced.findIndex((t) => t.name === name);
+  if (j < 0) throw new ExpectError(`${name} is not recorded in this run`);
+  return { s: { t: d.t, y: d.y[j] }, j };
+}
+
+function hasMetric(e: Expr): boolean {
+  let found = false;
+  const visit = (x: Expr): void => {
+    if (x.kind === 'call' && ['settling', 'overshoot', 'rise', 'peak', 'final', 'iae', 'saturated'].includes(x.callee.name)) found = true;
+    if (x.kind === 'binary') (visit(x.left), visit(x.right));
+    if (x.kind === 'unary') visit(x.operand);
+    if (x.kind === 'call') x.args.forEach(visit);
+  };
+  visit(e);
+  return found;
+}
+
+/** SI value of one side of an expect. */
+function value(c: Compiled, d: ExpectData, e: Expr): number {
+  if (!hasMetric(e)) {
+    const v = c.constant(e);
+    if (!Number.isFinite(v)) throw new ExpectError(`'${c.text.slice(e.span.start, e.span.end)}' is not a finite number`);
+    return v;
+  }
+  switch (e.kind) {
+    case 'unary':
+      return e.op === '-' ? -value(c, d, e.operand) : value(c, d, e.operand);
+    case 'binary': {
+      const a = value(c, d, e.left), b = value(c, d, e.right);
+      switch (e.op) {
+        case '+': return a + b;
+        case '-': return a - b;
+        case '*': return a * b;
+        case '/': return a / b;
+        case '^': return Math.pow(a, b);
+        default: throw new ExpectError(`'${e.op}' inside a measured value`);
+      }
+    }
+    case 'call':
+      return metricValue(c, d, e.callee.name, e.args);
+    default:
+      throw new ExpectError('cannot measure this');
+  }
+}
+
+function metricValue(c: Compiled, d: ExpectData, name: string, args: Expr[]): number {
+  if (name === 'saturated') {
+    const a = args[0];
+    const q = a && a.kind === 'member' ? pathText(a.path) : '';
+    const lim = c.limits.find((l) => l.qualified === q);
+    if (!lim) throw new ExpectError(`${q} has no limit`);
+    const iv = d.atLimit[lim.index] ?? [];
+    return d.duration > 0 ? iv.reduce((s, [x, y]) => s + (y - x), 0) / d.duration : 0;
+  }
+  const { s, j } = samplesOf(c, d, args[0]);
+  const nameOf = () => signalName(args[0], c.text);
+  const need = (v: number | null, what: string): number => {
+    if (v === null) throw new ExpectError(`${nameOf()} does not change, so it has no ${what}`);
+    return v;
+  };
+  switch (name) {
+    case 'final':
+      return s.y[s.y.length - 1];
+    case 'peak':
+      return peakOf(s);
+    case 'rise':
+      return need(riseOf(s), 'rise time');
+    case 'overshoot':
+      return need(overshootOf(s), 'overshoot');
+    case 'iae':
+      return d.iae[j];
+    case 'settling': {
+      const band = args[1];
+      if (!band) throw new ExpectError('settling needs a band');
+      const bv = c.constant(band);
+      const relative = band.kind === 'number' || (band.kind === 'quantity' && isPureNumberUnit(band.unit.text));
+      const w = bandWidth(s, bv, relative);
+      if (relative && changeOf(s).still) throw new ExpectError(`${nameOf()} does not change, so a relative band has no width`);
+      return need(settlingOf(s, w), 'settling time');
+    }
+    default:
+      throw new ExpectError(`unknown measure '${name}'`);
+  }
+}
