@@ -21,6 +21,7 @@ const table = [
   ['LW103', 'error', 'Unterminated string'],
   ['LW104', 'error', 'Unknown character'],
   ['LW105', 'error', 'Invalid number'],
+  ['LW106', 'error', 'Expression nested too deeply'],
   // names and structure
   ['LW201', 'error', 'Undefined name'],
   ['LW202', 'error', 'Duplicate name in a scope'],

@@ -3,7 +3,7 @@
 
 import type { IRecognitionException, IToken } from 'chevrotain';
 import { DiagnosticSink, type Span } from '../diagnostics';
-import type { FileAst } from './ast';
+import type { Expr, FileAst } from './ast';
 import { getParser } from './parser';
 import { AstBuilder } from './to-ast';
 import { loopLexer, UnitLit, UnterminatedString } from './tokens';
@@ -32,7 +32,7 @@ export function parse(text: string, sink: DiagnosticSink): ParseResult {
   }
   const comments = (lexed.groups.comments ?? []) as IToken[];
   const parser = getParser();
-  parser.setInput(lexed.tokens, text);
+  parser.setInput(dropDeepNesting(lexed.tokens, sink), text);
   let cst;
   try {
     cst = parser.file();
@@ -42,7 +42,123 @@ export function parse(text: string, sink: DiagnosticSink): ParseResult {
   }
   reportParseErrors(parser.errors, text, sink);
   const ast = new AstBuilder(text).file(cst, comments);
+  limitDepth(ast, sink);
   return { ast, tokens: lexed.tokens, comments };
+}
+
+/** Deepest bracket nesting the parser accepts (its rules recurse per level). */
+export const MAX_BRACKET_DEPTH = 128;
+
+/**
+ * Tokens nested deeper than MAX_BRACKET_DEPTH in ( and [ are left out (with one LW106 on them),
+ * so that a pathological line cannot exhaust the parser's stack and lose the rest of the file.
+ */
+function dropDeepNesting(tokens: IToken[], sink: DiagnosticSink): IToken[] {
+  let depth = 0;
+  let max = 0;
+  for (const t of tokens) {
+    const n = t.tokenType.name;
+    if (n === 'LParen' || n === 'LBracket') max = Math.max(max, ++depth);
+    else if (n === 'RParen' || n === 'RBracket') depth = Math.max(0, depth - 1);
+    else if (n === 'LCurly' || n === 'RCurly') depth = 0;
+  }
+  if (max <= MAX_BRACKET_DEPTH) return tokens;
+  const kept: IToken[] = [];
+  depth = 0;
+  let dropStart = -1;
+  let dropEnd = -1;
+  for (const t of tokens) {
+    const n = t.tokenType.name;
+    if (n === 'LCurly' || n === 'RCurly') depth = 0;
+    const opening = n === 'LParen' || n === 'LBracket';
+    const closing = n === 'RParen' || n === 'RBracket';
+    if (opening) depth++;
+    const inside = depth > MAX_BRACKET_DEPTH;
+    if (closing) depth = Math.max(0, depth - 1);
+    if (inside) {
+      if (dropStart < 0) dropStart = t.startOffset;
+      dropEnd = t.startOffset + t.image.length;
+      continue;
+    }
+    if (dropStart >= 0) {
+      sink.error('LW106', { start: dropStart, end: dropEnd }, `brackets nested more than ${MAX_BRACKET_DEPTH} deep; this part was not read`);
+      dropStart = -1;
+    }
+    kept.push(t);
+  }
+  if (dropStart >= 0) sink.error('LW106', { start: dropStart, end: dropEnd }, `brackets nested more than ${MAX_BRACKET_DEPTH} deep; this part was not read`);
+  return kept;
+}
+
+/** Deepest expression tree later passes accept; deeper ones are replaced by an error node. */
+export const MAX_EXPRESSION_DEPTH = 200;
+
+/**
+ * Every later pass walks expressions recursively; a generated or pasted expression thousands of
+ * levels deep (a sum of 3,000 terms) would exhaust the stack there. Such an expression is
+ * reported once and replaced by an error node, so the rest of the file still analyses.
+ */
+function limitDepth(ast: FileAst, sink: DiagnosticSink): void {
+  const replace = (e: Expr): Expr => {
+    if (depthOf(e) <= MAX_EXPRESSION_DEPTH) return e;
+    sink.error('LW106', e.span, `this expression is nested more than ${MAX_EXPRESSION_DEPTH} levels deep; split it with 'let' or 'signal'`);
+    return { kind: 'error', span: e.span };
+  };
+  for (const b of ast.blocks) {
+    for (const m of b.members as Array<Record<string, unknown>>) {
+      for (const [k, v] of Object.entries(m)) {
+        if (isExpr(v)) m[k] = replace(v);
+        else if (Array.isArray(v)) {
+          for (let i = 0; i < v.length; i++) {
+            const item = v[i] as unknown;
+            if (isExpr(item)) v[i] = replace(item);
+            else if (item && typeof item === 'object' && 'value' in item && isExpr((item as { value: unknown }).value)) {
+              (item as { value: Expr }).value = replace((item as { value: Expr }).value);
+            }
+          }
+        }
+      }
+    }
+  }
+}
+
+const EXPR_KINDS = new Set(['number', 'quantity', 'name', 'member', 'deriv', 'unary', 'binary', 'call', 'if', 'list', 'matrix', 'error']);
+function isExpr(v: unknown): v is Expr {
+  return !!v && typeof v === 'object' && EXPR_KINDS.has((v as { kind?: string }).kind ?? '') && 'span' in (v as object) && !('name' in (v as object) && typeof (v as { name: unknown }).name === 'object');
+}
+
+/** Depth of an expression tree, computed without recursion. */
+function depthOf(root: Expr): number {
+  let max = 0;
+  const stack: Array<[Expr, number]> = [[root, 1]];
+  while (stack.length) {
+    const [e, d] = stack.pop()!;
+    if (d > max) max = d;
+    if (max > MAX_EXPRESSION_DEPTH) return max;
+    switch (e.kind) {
+      case 'unary':
+        stack.push([e.operand, d + 1]);
+        break;
+      case 'binary':
+        stack.push([e.left, d + 1], [e.right, d + 1]);
+        break;
+      case 'call':
+        for (const a of e.args) stack.push([a, d + 1]);
+        break;
+      case 'if':
+        stack.push([e.cond, d + 1], [e.then, d + 1], [e.else, d + 1]);
+        break;
+      case 'list':
+        for (const a of e.items) stack.push([a, d + 1]);
+        break;
+      case 'matrix':
+        for (const r of e.rows) for (const a of r) stack.push([a, d + 1]);
+        break;
+      default:
+        break;
+    }
+  }
+  return max;
 }
 
 function reportParseErrors(errors: IRecognitionException[], text: string, sink: DiagnosticSink): void {
