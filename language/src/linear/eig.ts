@@ -5,12 +5,15 @@
 // for badly scaled matrices such as companion matrices of polynomials.
 //
 // API
+// The matrix is first scaled by a power of two (exact) so that its 1-norm lies near 1: this keeps
+// the QR iteration away from overflow and underflow for extreme entries.
+//
 //   eigenvalues(A) → { ok, values: Complex[], problem? }   never throws; non-finite or
 //                    non-square input gives ok false and no values.
 
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import type { Complex } from './complex';
-import { copy, hasShape, type Mat } from './dense';
+import { copy, hasShape, norm1, type Mat } from './dense';
 
 export interface EigenResult {
   ok: boolean;
@@ -57,10 +60,15 @@ export function eigenvalues(A: Mat): EigenResult {
   if (!A.every((r) => r.every((v) => Number.isFinite(v))))
     return { ok: false, values: [], problem: 'non-finite', message: 'the matrix has a non-finite entry' };
   if (n === 1) return { ok: true, values: [{ re: A[0][0], im: 0 }] };
+  const norm = norm1(A);
+  if (norm === 0) return { ok: true, values: A.map(() => ({ re: 0, im: 0 })) };
+  const s2 = 2 ** Math.round(Math.log2(norm));
+  const scale = s2 > 1e-300 && s2 < 1e300 ? s2 : 1;
   try {
-    const evd = new EigenvalueDecomposition(new Matrix(balance(A)), { assumeSymmetric: false });
+    const scaled = A.map((r) => r.map((v) => v / scale));
+    const evd = new EigenvalueDecomposition(new Matrix(balance(scaled)), { assumeSymmetric: false });
     const re = evd.realEigenvalues, im = evd.imaginaryEigenvalues;
-    const values = re.map((v, i) => ({ re: v, im: im[i] }));
+    const values = re.map((v, i) => ({ re: v * scale, im: im[i] * scale }));
     if (!values.every((z) => Number.isFinite(z.re) && Number.isFinite(z.im)))
       return { ok: false, values: [], problem: 'failed', message: 'the eigenvalue iteration did not converge' };
     return { ok: true, values };
