@@ -2,5 +2,6 @@
 
 import type { CliCommand } from './types';
 import { command as check } from './check';
+import { command as linearize } from './linearize';
 
-export const COMMANDS: CliCommand[] = [check];
+export const COMMANDS: CliCommand[] = [check, linearize];

@@ -11,12 +11,12 @@
 //   systemJacobians(sys, x, u, p?) → StateSpace           (row-major number[][] matrices)
 //   toMat(F, r, c) → Mat;  fromMat(M) → Float64Array
 //   completeHidden(sys, x, u, p?) → { x, residual }        hidden states solved at (x, u)
-//   discreteOf(sys, ss) → DiscreteResult | undefined       sampled controllers: by their method
+//   methodOf(sys) → DiscretizeMethod | undefined           a sampled controller's method ('hold' is zoh)
 
 import { Matrix, pseudoInverse } from 'ml-matrix';
 import type { CompiledSystem } from '../model/types';
 import type { Mat } from './dense';
-import { discretize, type DiscreteResult, type DiscretizeMethod } from './discretize';
+import type { DiscretizeMethod } from './discretize';
 import type { StateSpace } from './lti';
 
 export function toMat(F: ArrayLike<number>, r: number, c: number): Mat {
@@ -69,11 +69,4 @@ export function methodOf(sys: CompiledSystem): DiscretizeMethod | undefined {
   const m = sys.sample?.method;
   if (!m) return undefined;
   return m === 'hold' ? 'zoh' : m;
-}
-
-/** The discrete matrices of a sampled controller (by its own method and period). */
-export function discreteOf(sys: CompiledSystem, ss: StateSpace, p: Float64Array = sys.params): DiscreteResult | undefined {
-  const method = methodOf(sys);
-  if (!method || !sys.sample) return undefined;
-  return discretize(ss, sys.sample.periodOf(p), method);
 }
