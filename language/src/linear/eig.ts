@@ -63,7 +63,7 @@ export function eigenvalues(A: Mat): EigenResult {
   const norm = norm1(A);
   if (norm === 0) return { ok: true, values: A.map(() => ({ re: 0, im: 0 })) };
   const s2 = 2 ** Math.round(Math.log2(norm));
-  const scale = s2 > 1e-300 && s2 < 1e300 ? s2 : 1;
+  const scale = s2 > 0 && Number.isFinite(s2) ? s2 : 1;
   try {
     const scaled = A.map((r) => r.map((v) => v / scale));
     const evd = new EigenvalueDecomposition(new Matrix(balance(scaled)), { assumeSymmetric: false });
