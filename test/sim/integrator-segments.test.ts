@@ -17,7 +17,7 @@ describe.each(METHODS)('%s', (method) => {
     const events: number[] = [];
     let level = 0.5;
     let t = 0;
-    let x = new Float64Array([1]);
+    let x: Float64Array = new Float64Array([1]);
     let h: number | undefined;
     let segments = 0;
     while (t < 20 && segments < 20) {
@@ -61,7 +61,7 @@ describe.each(METHODS)('%s', (method) => {
   test('forty segments land exactly on their ends and agree with the closed form', () => {
     const tol = 1e-9;
     const ig = createIntegrator(method, A3.problem, { rtol: tol, atol: tol });
-    let x = Float64Array.from(A3.x0);
+    let x: Float64Array = Float64Array.from(A3.x0);
     let h: number | undefined;
     let steps = 0;
     for (let k = 0; k < 40; k++) {
