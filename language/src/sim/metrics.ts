@@ -20,15 +20,19 @@ export interface RawMetrics {
   settling: number | null;
 }
 
-/** Changes smaller than this fraction of the signal's size count as no change. */
-const STILL = 1e-12;
+/**
+ * A net change smaller than this fraction of the largest excursion from the initial value counts
+ * as no change (a signal that returns to where it started has no rise, overshoot or settling).
+ */
+const STILL = 1e-6;
 
 export function changeOf(s: Samples): { initial: number; final: number; delta: number; still: boolean } {
   const n = s.y.length;
   const initial = s.y[0], final = s.y[n - 1];
   const delta = Math.abs(final - initial);
-  const size = Math.max(Math.abs(initial), Math.abs(final), 1e-300);
-  return { initial, final, delta, still: !(delta > STILL * size) };
+  let excursion = 0;
+  for (let i = 0; i < n; i++) excursion = Math.max(excursion, Math.abs(s.y[i] - initial));
+  return { initial, final, delta, still: !(delta > STILL * excursion) || !(delta > 0) };
 }
 
 export function peakOf(s: Samples): number {

@@ -9,7 +9,7 @@
 import type { Compiled } from '../model/compile';
 import { AlgebraicLoopFailure } from '../model/loop';
 import { LimitMode, type TracedSignal } from '../model/types';
-import type { RunError, RunResult, SignalMetrics, SolverStats } from '../protocol';
+import type { LoopRunReport, RunError, RunResult, SignalInfo, SignalMetrics, SolverStats } from '../protocol';
 import { createIntegrator, type IntegratorMethod, type SegmentResult, type StepView } from './solver';
 import { eventValue, hysteresis, locateRoot, modeFor, nextMode } from './events';
 import { GL3_NODES, GL3_WEIGHTS, rawMetrics } from './metrics';
@@ -616,4 +616,36 @@ export function failedRun(input: RunInput, spec: RunSpec, error: RunError): RunR
   if (input.sweep) r.sweep = input.sweep;
   void spec;
   return r;
+}
+
+/** The plain-JSON report of a loop's runs (CLI --json, the plot panel, HTML reports). */
+export function buildReport(c: Compiled, runs: RunResult[], file?: string): LoopRunReport {
+  const signals: SignalInfo[] = c.traced
+    .filter((t) => t.shown)
+    .map((t) => {
+      const info: SignalInfo = { name: t.name, unit: t.unit, scale: t.scale, offset: t.offset, kind: t.kind === 'expr' ? 'signal' : t.kind, group: groupOf(t) };
+      if (t.limit !== undefined) {
+        const lim = c.limits.find((l) => l.index === t.limit);
+        if (lim) {
+          const inst = c.instances.find((i) => i.system.instance === lim.instance);
+          if (inst) {
+            const lo = new Float64Array(inst.system.limits.length), hi = new Float64Array(inst.system.limits.length);
+            inst.system.limitBounds(c.params.subarray(inst.pOffset), lo, hi);
+            info.limit = { lo: display(lo[lim.info.index], t), hi: display(hi[lim.info.index], t) };
+          }
+        }
+      }
+      if (t.description) info.description = t.description;
+      return info;
+    });
+  const spec = runSpec(c);
+  const report: LoopRunReport = { loop: c.name, signals, runs, warnings: spec.problems.slice() };
+  if (file) report.file = file;
+  return report;
+}
+
+/** Panel key: signals of the same unit share a panel; limited signals go with the actuators. */
+function groupOf(t: TracedSignal): string {
+  if (t.limit !== undefined) return 'actuator';
+  return t.unit || 'value';
 }
