@@ -88,6 +88,10 @@ export interface LoopLinear {
   /** Instance outputs each arrow reads, structurally: arrowReads[j] = output indices. */
   arrowReads: number[][];
   notes: string[];
+  /** Value (SI) of a loop expression at time t with the given joint state, inputs and outputs. */
+  evalExpr(e: Expr, at: { x: Float64Array; u: Float64Array; y: Float64Array }, t: number): number;
+  /** Values (SI) of every loop signal at time t, by name. */
+  signalsAt(t: number): Map<string, number>;
 }
 
 function failed(name: string, problem: string): LoopLinear {
@@ -95,7 +99,7 @@ function failed(name: string, problem: string): LoopLinear {
   return {
     ok: false, problem, name, instances: [], states: [], inputs: [], outputs: [], signals: [], x: new Float64Array(), u: new Float64Array(),
     y: new Float64Array(), residual: new Float64Array(), closed: { A: e, B: e, C: e, D: e }, Cu: e, Du: e, blocks: { A: e, B: e, C: e, D: e },
-    W: { y: e, x: e, r: e }, wired: [], arrowReads: [], notes: [],
+    W: { y: e, x: e, r: e }, wired: [], arrowReads: [], notes: [], evalExpr: () => NaN, signalsAt: () => new Map(),
   };
 }
 
@@ -469,6 +473,12 @@ function build(analysis: Analysis, loopName?: string): LoopLinear {
     wired: Array.from({ length: nu }, (_, j) => arrowOf.has(j)),
     arrowReads,
     notes,
+    evalExpr: (e, at, t) => evalDual(e, wiringEnv(ctx, at.x, t, 0, { y: (o) => at.y[o], u: (j) => at.u[j] })).v,
+    signalsAt: (t) => {
+      const out = new Map<string, number>();
+      for (const d of loop.signals.values()) out.set(d.name.name, evalDual(d.value, wiringEnv(ctx, x, t, 0, { y: (o) => sig.y[o], u: (j) => sig.u[j] })).v);
+      return out;
+    },
   };
 }
 
