@@ -1,0 +1,160 @@
+// The extension in a real workbench: code-server in headless Chromium, the packaged .vsix
+// installed into a fresh extensions folder, a workspace of sample copies. Screenshots of every
+// step go to test-output/editor/. Run with `npm run test:editor`.
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { Browser, Page } from 'playwright-core';
+import { existsSync, rmSync } from 'node:fs';
+import { join } from 'node:path';
+import { packageVsix, ROOT } from '../package/package-vsix';
+import { ensureSandbox, startCodeServer, type RunningCodeServer } from './code-server';
+import { makeWorkspace, type TestWorkspace } from './workspace';
+import {
+  activeEditor,
+  closePanel,
+  dismissHover,
+  editorText,
+  hoverText,
+  languageMode,
+  launch,
+  notifications,
+  openFile,
+  openWorkbench,
+  outputChannels,
+  showOutputChannel,
+  Shots,
+  tokenColor,
+  waitForCodeLens,
+  waitForDrawnCanvas,
+} from './workbench';
+
+const OUT = join(ROOT, 'test-output', 'editor');
+// Steps that need the language server run once its entry point exists in the tree.
+const HAS_SERVER = existsSync(join(ROOT, 'server', 'src', 'main.ts'));
+const needsServer = it.skipIf(!HAS_SERVER);
+
+let code: (RunningCodeServer & { installed: string[] }) | undefined;
+let browser: Browser | undefined;
+let page: Page;
+let ws: TestWorkspace;
+const shots = new Shots(OUT);
+
+/** Runs a step; on failure saves a screenshot of what the workbench showed, then fails. */
+async function step(name: string, body: () => Promise<void>): Promise<void> {
+  try {
+    await body();
+    await shots.take(page, name);
+  } catch (error) {
+    if (page) await shots.take(page, `${name}-failed`).catch(() => undefined);
+    throw error;
+  }
+}
+
+describe('Loopwright in the workbench', () => {
+  beforeAll(async () => {
+    rmSync(OUT, { recursive: true, force: true });
+    ensureSandbox(ROOT);
+    const vsix = packageVsix();
+    ws = makeWorkspace(ROOT, join(ROOT, 'test', 'editor', 'fixtures'));
+    code = await startCodeServer({ vsix, workspace: ws.dir, logDir: OUT });
+    browser = await launch();
+    page = await openWorkbench(browser, code.url, ws.dir);
+    await shots.take(page, 'workbench');
+  });
+
+  afterAll(async () => {
+    await browser?.close().catch(() => undefined);
+    await code?.stop();
+    if (ws) rmSync(ws.dir, { recursive: true, force: true });
+  });
+
+  it('installs the packaged extension', () => {
+    expect(code!.installed).toContain('loopwright.loopwright');
+  });
+
+  it('opens boom.loop in the Loopwright language with grammar colours', async () => {
+    await step('language-and-colours', async () => {
+      await openFile(page, 'boom.loop', 'plant');
+      // The workbench may show the file before the extension's contributions are registered.
+      await expect.poll(() => languageMode(page), { timeout: 60_000, interval: 500 }).toBe('Loopwright');
+      const keyword = await tokenColor(page, 'plant');
+      const blockName = await tokenColor(page, 'Boom');
+      const number = await tokenColor(page, '0.6');
+      const unit = await tokenColor(page, 'kg');
+      const comment = await tokenColor(page, '# unit inferred', { partial: true });
+      const plain = await activeEditor(page).locator('.view-lines').evaluate((el) => getComputedStyle(el).color);
+      // Without the grammar every token has the editor's plain text colour.
+      for (const c of [keyword, blockName, number, unit, comment]) expect(c).not.toBe(plain);
+      expect(new Set([keyword, blockName, number, unit, comment]).size).toBeGreaterThanOrEqual(4);
+    });
+  });
+
+  it('activates the extension (its output channel exists)', async () => {
+    await step('activated', async () => {
+      await openFile(page, 'boom.loop', 'plant');
+      await expect.poll(() => outputChannels(page), { timeout: 30_000, interval: 1000 }).toContainEqual(expect.stringMatching(/^Loopwright\b/));
+      await showOutputChannel(page, 'Loopwright');
+    });
+  });
+
+  it('offers the pid snippet and inserts a PID skeleton', async () => {
+    await closePanel(page);
+    await step('snippet', async () => {
+      await openFile(page, 'scratch.loop', '');
+      await activeEditor(page).click();
+      await page.keyboard.type('pid');
+      await page.keyboard.press('Control+Space');
+      const row = page.locator('.suggest-widget .monaco-list-row', { hasText: 'pid' }).first();
+      await row.waitFor({ timeout: 20_000 });
+      await page.locator('.suggest-widget .monaco-list-row', { hasText: 'PID' }).first().click();
+      await activeEditor(page).locator('.view-lines', { hasText: 'from err' }).waitFor({ timeout: 20_000 });
+      const text = await editorText(page);
+      expect(text).toMatch(/controller Pid/);
+      expect(text).toMatch(/pid u from err \{ kp = 10/);
+      await page.keyboard.press('Escape');
+    });
+  });
+
+  needsServer('shows the Simulate code lens on boom.loop', async () => {
+    await step('code-lens', async () => {
+      await openFile(page, 'boom.loop', 'plant');
+      await waitForCodeLens(page, 'Simulate');
+    });
+  });
+
+  needsServer('marks the unit error with a squiggle and explains it', async () => {
+    await step('unit-error', async () => {
+      await openFile(page, 'boom-unit-error.loop', 'plant');
+      const squiggle = activeEditor(page).locator('.squiggly-error').first();
+      await squiggle.waitFor({ timeout: 60_000 });
+      const text = await hoverText(page, squiggle);
+      expect(text).toMatch(/\bm\b/);
+      expect(text).toMatch(/rad/);
+    });
+    await dismissHover(page);
+  });
+
+  needsServer('hovers the plant name with its A matrix and poles', async () => {
+    await step('plant-hover', async () => {
+      await openFile(page, 'boom.loop', 'plant');
+      await waitForCodeLens(page, 'Simulate');
+      const name = activeEditor(page).locator('.view-line span > span', { hasText: /^Boom$/ }).first();
+      const text = await hoverText(page, name, 60_000);
+      expect(text).toMatch(/\bA\b/);
+      expect(text).toMatch(/pole/i);
+    });
+    await dismissHover(page);
+  });
+
+  needsServer('runs the loop from the Simulate lens and draws the plot in a webview', async () => {
+    await step('simulate', async () => {
+      await openFile(page, 'boom.loop', 'plant');
+      const lens = await waitForCodeLens(page, 'Simulate');
+      await lens.click();
+      await page.locator('.tab', { hasText: 'Upright' }).first().waitFor({ timeout: 60_000 }).catch(async (e) => {
+        throw new Error(`no plot panel opened; notifications: ${(await notifications(page)).join(' | ')}; ${e}`);
+      });
+      const frame = await waitForDrawnCanvas(page);
+      expect(await frame.locator('canvas').count()).toBeGreaterThan(0);
+    });
+  });
+});
