@@ -11,7 +11,8 @@ import type { PanelIdentity, ReportPanels } from './panel';
 import { fileStem, saveFile, textBytes } from './save';
 import { requireTrust } from './trust';
 
-export type ReportBuilder = (report: LoopRunReport) => string;
+/** Self-contained HTML of a report (async: it reads the built page assets). */
+export type ReportBuilder = (report: LoopRunReport) => Promise<string>;
 
 export interface CommandServices {
   server: ServerConnection;
@@ -168,7 +169,7 @@ async function openReport(services: CommandServices, args: unknown[]): Promise<v
   if (!report) return;
   const written = await saveFile(
     { name: `${fileStem(id.loop)}-report.html`, filters: { HTML: ['html'] }, title: `Write the report of ${id.loop}`, near: vscode.Uri.parse(id.uri) },
-    textBytes(build(report)),
+    textBytes(await build(report)),
   );
   if (!written) return;
   const open = 'Open in Browser';

@@ -2,7 +2,8 @@
 // trust. Nothing here may throw out of activate(): a broken server leaves colouring, snippets and
 // the language configuration working.
 import * as vscode from 'vscode';
-import { buildPage, buildReportHtml } from './page';
+import type { LoopRunReport } from '../../language/src/protocol';
+import { MEDIA_FILES, reportPageHtml } from './page';
 import { registerCommands, exportCsvText, type CommandServices } from './commands';
 import { ServerConnection } from './language-client';
 import { watchLiveEdits } from './live';
@@ -39,11 +40,18 @@ function panelHost(output: () => vscode.LogOutputChannel): PanelHost {
   };
 }
 
+/** One HTML file holding the report, the page script and its styles, to open from disk. */
+async function reportHtml(extensionUri: vscode.Uri, report: LoopRunReport): Promise<string> {
+  const read = async (path: string) => new TextDecoder().decode(await vscode.workspace.fs.readFile(vscode.Uri.joinPath(extensionUri, path)));
+  const [script, uplotStyle, style] = await Promise.all([read(MEDIA_FILES.script), read(MEDIA_FILES.uplotStyle), read(MEDIA_FILES.style)]);
+  return reportPageHtml({ report, script, styles: [uplotStyle, style] });
+}
+
 export async function activate(context: vscode.ExtensionContext): Promise<void> {
   const connection = new ServerConnection(context);
   server = connection;
-  const panels = new ReportPanels(context.extensionUri, buildPage, panelHost(() => connection.output));
-  const services: CommandServices = { server: connection, panels, reportHtml: buildReportHtml };
+  const panels = new ReportPanels(context.extensionUri, panelHost(() => connection.output));
+  const services: CommandServices = { server: connection, panels, reportHtml: (report) => reportHtml(context.extensionUri, report) };
 
   context.subscriptions.push(
     panels,

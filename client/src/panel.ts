@@ -2,24 +2,13 @@
 // serializer after a window reload. The page itself (HTML, script, messages) lives in page.ts and
 // client/media/; this file only hosts it.
 import * as vscode from 'vscode';
-import { randomBytes } from 'node:crypto';
 import type { Span } from '../../language/src/diagnostics';
 import type { LoopRunReport, RunMode } from '../../language/src/protocol';
 import { loopNamesInText } from './loops';
+import { createNonce, MEDIA_FILES, plotPageHtml } from './page';
 import { parsePageMessage, parseState, type HostToPage, type StatusKind } from '../media/messages';
 
 export const VIEW_TYPE = 'loopwright.report';
-
-/** What the host hands the page builder on each render. */
-export interface PageInput {
-  nonce: string;
-  cspSource: string;
-  scriptUri: string;
-  styleUris: string[];
-  title: string;
-}
-
-export type PageBuilder = (input: PageInput) => string;
 
 export interface PanelHost {
   exportCsv(panel: ReportPanel, csv: string): Promise<void>;
@@ -37,10 +26,6 @@ export interface PanelIdentity {
 
 export function panelKey(id: PanelIdentity): string {
   return `${id.uri}#${id.loop}`;
-}
-
-export function makeNonce(): string {
-  return randomBytes(18).toString('base64');
 }
 
 /**
@@ -85,8 +70,8 @@ export class ReportPanel implements vscode.Disposable {
   constructor(
     readonly id: PanelIdentity,
     readonly panel: vscode.WebviewPanel,
+    private readonly extensionUri: vscode.Uri,
     private readonly mediaRoot: vscode.Uri,
-    private readonly page: PageBuilder,
     private readonly host: PanelHost,
   ) {
     panel.webview.options = { enableScripts: true, localResourceRoots: [mediaRoot] };
@@ -105,12 +90,11 @@ export class ReportPanel implements vscode.Disposable {
   render(): void {
     this.pageReady = false;
     const webview = this.panel.webview;
-    const media = (name: string) => webview.asWebviewUri(vscode.Uri.joinPath(this.mediaRoot, name)).toString();
-    this.panel.webview.html = this.page({
-      nonce: makeNonce(),
+    const asset = (path: string) => webview.asWebviewUri(vscode.Uri.joinPath(this.extensionUri, path)).toString();
+    webview.html = plotPageHtml({
+      assets: { script: asset(MEDIA_FILES.script), style: asset(MEDIA_FILES.style), uplotStyle: asset(MEDIA_FILES.uplotStyle) },
+      nonce: createNonce(),
       cspSource: webview.cspSource,
-      scriptUri: media('plot.js'),
-      styleUris: [media('uPlot.min.css'), media('style.css')],
       title: `${this.id.loop} — Loopwright`,
     });
   }
@@ -192,7 +176,6 @@ export class ReportPanels implements vscode.WebviewPanelSerializer<unknown>, vsc
 
   constructor(
     private readonly extensionUri: vscode.Uri,
-    private readonly page: PageBuilder,
     private readonly host: PanelHost,
   ) {
     this.mediaRoot = vscode.Uri.joinPath(extensionUri, 'dist', 'media');
@@ -226,7 +209,7 @@ export class ReportPanels implements vscode.WebviewPanelSerializer<unknown>, vsc
 
   private adopt(id: PanelIdentity, webviewPanel: vscode.WebviewPanel): ReportPanel {
     webviewPanel.iconPath = vscode.Uri.joinPath(this.extensionUri, 'images', 'icon.png');
-    const panel = new ReportPanel(id, webviewPanel, this.mediaRoot, this.page, this.host);
+    const panel = new ReportPanel(id, webviewPanel, this.extensionUri, this.mediaRoot, this.host);
     const key = panelKey(id);
     this.panels.get(key)?.dispose();
     this.panels.set(key, panel);
