@@ -9,7 +9,7 @@ import type { LoopSymbol, SymbolTable, Target } from '../check/symbols';
 import type { Arrow, Expr, ParamDecl, SignalDecl, StartDecl, AroundDecl } from '../syntax/ast';
 import { pathText, walkExpr } from '../syntax/ast';
 import { compileModule, type FnSpec, type FnWrite } from './codegen';
-import { Graph, evaluate } from './graph';
+import { DEP, Graph, evaluate } from './graph';
 import { lowerExpr, planSystem, SystemLowering, type LowerEnv, type NameLowering, type SystemPlan } from './lower';
 import { compileSystem } from './system';
 import { LimitMode, type CompiledLoop, type CompiledSystem, type InstanceLayout, type LoopEvaluator, type LoopLimit, type OperatingPoint, type SampledController, type TracedSignal, type VarInfo } from './types';
@@ -485,6 +485,7 @@ export function compileLoop(input: LoopCompileInput): CompiledLoop | undefined {
     startFor,
     source: mod.source,
     symbol: loop,
+    tracedTimeDependent: traceNodes.map((id) => (g.nodes[id].deps & DEP.t) !== 0),
     text: input.text,
     periodOf: (k, p) => evaluate(g, [insts.find((i) => i.name === sampledList[k].instance)!.disc!.constant(insts.find((i) => i.name === sampledList[k].instance)!.plan.sample!.period)], { p })[0],
   };
@@ -501,6 +502,8 @@ export interface LoopExtras {
   source: string;
   /** Sample period of sampled controller k for a param vector. */
   periodOf(k: number, p: Float64Array): number;
+  /** Per traced signal: does it depend on time directly (signal functions), not only through states? */
+  tracedTimeDependent: boolean[];
   /** The loop's symbol and the document text (run options, sweeps and expects are read from them). */
   symbol: LoopSymbol;
   text: string;

@@ -207,7 +207,9 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
       }
       for (let j = 0; j < nTr; j++) {
         const y0 = trPrev[j], y1 = trNode[0][j], y2 = trNode[1][j], y3 = trNode[2][j], y4 = trBuf[j];
-        if (y0 * y1 < 0 || y1 * y2 < 0 || y2 * y3 < 0 || y3 * y4 < 0) {
+        if (timeDep[j]) {
+          rec.iae[j] += iaeTimeDependent(view, j, a, b);
+        } else if (y0 * y1 < 0 || y1 * y2 < 0 || y2 * y3 < 0 || y3 * y4 < 0) {
           rec.iae[j] += iaeSplit(view, j, a, b, [y0, y1, y2, y3, y4]);
         } else {
           rec.iae[j] += h * (GL3_WEIGHTS[0] * Math.abs(y1) + GL3_WEIGHTS[1] * Math.abs(y2) + GL3_WEIGHTS[2] * Math.abs(y3));
@@ -219,6 +221,39 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
     noteTail(b, xb);
   };
   const trOne = new Float64Array(nTr);
+  const timeDep = c.tracedTimeDependent;
+  /** ∫|y_j| for a signal that varies with time directly (the step size does not follow it): bisect until 3-point rules agree. */
+  const gl3 = (view: StepView, j: number, a: number, b: number) => {
+    const h = b - a;
+    let s = 0;
+    for (let q = 0; q < 3; q++) s += GL3_WEIGHTS[q] * Math.abs(sig(view, j, a + GL3_NODES[q] * h));
+    return s * h;
+  };
+  /** Cuts [a, b] where the signal changes sign on a 64-point scan, then integrates each piece adaptively. */
+  const iaeTimeDependent = (view: StepView, j: number, a: number, b: number): number => {
+    const K = 64;
+    let total = 0, ta = a, va = sig(view, j, a), from = a;
+    for (let k = 1; k <= K; k++) {
+      const tb = k === K ? b : a + ((b - a) * k) / K;
+      const vb = sig(view, j, tb);
+      if (va * vb < 0) {
+        const s0 = Math.sign(va);
+        const r = locateRoot((t) => s0 * sig(view, j, t), ta, Math.abs(va), tb, -Math.abs(vb));
+        if (r > from) total += iaeAdaptive(view, j, from, r, 0);
+        from = r;
+      }
+      ta = tb;
+      va = vb;
+    }
+    if (b > from) total += iaeAdaptive(view, j, from, b, 0);
+    return total;
+  };
+  const iaeAdaptive = (view: StepView, j: number, a: number, b: number, depth: number, whole = gl3(view, j, a, b)): number => {
+    const m = 0.5 * (a + b);
+    const left = gl3(view, j, a, m), right = gl3(view, j, m, b);
+    if (depth >= 14 || Math.abs(left + right - whole) <= 1e-12 * (b - a) + rtol * 1e-3 * Math.abs(left + right)) return left + right;
+    return iaeAdaptive(view, j, a, m, depth + 1, left) + iaeAdaptive(view, j, m, b, depth + 1, right);
+  };
   const sig = (view: StepView, j: number, t: number) => {
     view.dense(t, xq);
     ev.traced(t, xq, trOne);
