@@ -5,28 +5,30 @@
 //   - on close, an empty list clears them.
 // A push is for one document version: if the document changed again while waiting, the newer
 // change's timer does the work. Diagnostics from later layers (model, linear analysis) are
-// collected through the analysis' sink; `extraChecks` runs them before each push.
+// added by `extraChecks` (memoised per analysis) before each push.
 
+import type { Analysis } from '../../language/src/analysis';
 import type { Diagnostic } from '../../language/src/diagnostics';
 import type { DocState } from './documents';
 
 export const DEBOUNCE_MS = 100;
 
-/** Hooks that add diagnostics from lazy layers to an analysis' sink (each adds once per key). */
-export type ExtraCheck = (state: DocState) => void;
+/** Diagnostics of lazy layers (operating points, ...), memoised per analysis by the hook. */
+export type ExtraCheck = (analysis: Analysis) => Diagnostic[];
 
 /** Every diagnostic of the analysis, in document order, without exact duplicates. */
 export function collectDiagnostics(state: DocState, extraChecks: ExtraCheck[] = []): Diagnostic[] {
+  const all = [...state.analysis.sink.items];
   for (const check of extraChecks) {
     try {
-      check(state);
+      all.push(...check(state.analysis));
     } catch {
       // A failing later layer never hides the diagnostics the front end found.
     }
   }
   const seen = new Set<string>();
   const out: Diagnostic[] = [];
-  for (const d of state.analysis.sink.items) {
+  for (const d of all) {
     const key = `${d.code}:${d.span.start}:${d.span.end}:${d.message}`;
     if (seen.has(key)) continue;
     seen.add(key);

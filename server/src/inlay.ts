@@ -26,9 +26,10 @@ export function inlayHints(a: Analysis, range: Span): InlayInfo[] {
     if (b.kind === 'loop') {
       const loop = a.symbols.loops.get(b.name.name);
       const lin = loop && loop.block === b ? loopLinearOf(a, loop) : undefined;
-      if (lin && !b.name.missing) {
-        const parts = [lin.verdict];
-        if (lin.dominant && lin.dominant.im !== 0) parts.push(`ζ ${num(lin.dominant.damping, 2)}`);
+      if (lin?.ok && !b.name.missing) {
+        const parts: string[] = [lin.verdict];
+        const dom = lin.dominant[0];
+        if (dom && dom.im !== 0) parts.push(`ζ ${num(dom.damping, 2)}`);
         if (lin.settling !== null) parts.push(`ts ≈ ${num(lin.settling, 2)} s`);
         out.push({ offset: b.name.span.end, label: parts.join(' · '), kind: 'type', paddingLeft: true, tooltip: 'Closed loop at its operating point (linearized)' });
       }

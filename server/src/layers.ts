@@ -4,7 +4,10 @@
 
 import type { Analysis } from '../../language/src/analysis';
 import type { LoopSymbol, SystemSymbol } from '../../language/src/check/symbols';
-import type { PoleInfo } from '../../language/src/protocol';
+import type { Diagnostic } from '../../language/src/diagnostics';
+import { compileAnalysis } from '../../language/src/model/compile';
+import { checkOperatingPoints } from '../../language/src/linear/equilibrium';
+import { linearizeLoop, linearizeSystem, type LoopLinearization, type SystemLinearization } from '../../language/src/linear/linearize';
 import type { Dim } from '../../language/src/units/dimension';
 
 /** What the unit checker hands the editor: inferred units of params, lets and signals. */
@@ -31,56 +34,38 @@ export function unitsOf(a: Analysis): UnitsView | undefined {
 
 // ---------- linear analysis ----------
 
-export interface NamedUnit {
-  name: string;
-  unit: string;
+/**
+ * The linear models of the facade (linear/linearize.ts), or undefined when the analysis has
+ * errors or the model cannot be linearized (the hover then says why, through `problem`).
+ */
+export function plantLinearOf(a: Analysis, sys: SystemSymbol, point?: string): SystemLinearization {
+  return linearizeSystem(a, sys.name, point);
 }
 
-/** Row-major matrices with the names and units of their rows and columns. */
-export interface LabelledMatrices {
-  states: NamedUnit[];
-  inputs: NamedUnit[];
-  outputs: NamedUnit[];
-  A: ArrayLike<number>;
-  B: ArrayLike<number>;
-  C: ArrayLike<number>;
-  D: ArrayLike<number>;
+export function loopLinearOf(a: Analysis, loop: LoopSymbol): LoopLinearization {
+  return linearizeLoop(a, loop.name);
 }
 
-export interface PlantLinear extends LabelledMatrices {
-  point: string;
-  poles: PoleInfo[];
-  verdict: string;
-  /** State derivative residuals at the point, in display units per second. */
-  residual: Array<{ state: string; value: number; unit: string }>;
-  equilibrium: boolean;
+/** LW601/LW602 on operating points, once per analysis. */
+export function operatingPointDiagnostics(a: Analysis): Diagnostic[] {
+  const key = 'server:operatingPointDiagnostics';
+  const hit = a.cache.get(key) as Diagnostic[] | undefined;
+  if (hit) return hit;
+  // Only a file without errors has values to judge; the check itself never throws.
+  const out = a.diagnostics.some((d) => d.severity === 'error') ? [] : checkOperatingPoints(a);
+  a.cache.set(key, out);
+  return out;
 }
 
-export interface ControllerLinear extends LabelledMatrices {
-  poles: PoleInfo[];
-  zeros: Array<{ re: number; im: number }>;
-  dcGain?: Array<{ from: string; to: string; value: number; unit: string }>;
-  sampled?: { period: number; method: string; Ad: ArrayLike<number>; Bd: ArrayLike<number>; Cd: ArrayLike<number>; Dd: ArrayLike<number> };
-}
-
-export interface LoopLinear {
-  around: string[];
-  poles: PoleInfo[];
-  verdict: string;
-  dominant?: PoleInfo;
-  settling: number | null;
-  margins: Array<{ at: string; gainDb: number | null; phaseDeg: number | null; crossover: number | null }>;
-}
-
-/** Plant linearized at an operating point (its first when none is named). */
-export function plantLinearOf(_a: Analysis, _sys: SystemSymbol, _point?: string): PlantLinear | undefined {
-  return undefined;
-}
-
-export function controllerOf(_a: Analysis, _sys: SystemSymbol): ControllerLinear | undefined {
-  return undefined;
-}
-
-export function loopLinearOf(_a: Analysis, _loop: LoopSymbol): LoopLinear | undefined {
-  return undefined;
+/** Model diagnostics of every loop (algebraic loops LW404, realization LW5xx), once per analysis. */
+export function modelDiagnostics(a: Analysis): Diagnostic[] {
+  const key = 'server:modelDiagnostics';
+  const hit = a.cache.get(key) as Diagnostic[] | undefined;
+  if (hit) return hit;
+  const out: Diagnostic[] = [];
+  if (!a.diagnostics.some((d) => d.severity === 'error')) {
+    for (const name of a.symbols.loops.keys()) out.push(...compileAnalysis(a, name).diagnostics);
+  }
+  a.cache.set(key, out);
+  return out;
 }

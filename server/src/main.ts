@@ -41,6 +41,7 @@ import { foldingRanges } from './folding';
 import { guard, guardNotification, logError, setLogger } from './guard';
 import { hover } from './hover';
 import { inlayHints } from './inlay';
+import { modelDiagnostics, operatingPointDiagnostics } from './layers';
 import { codeLenses } from './lens';
 import { prepareRename, rename } from './rename';
 import { runInWorker } from './runs';
@@ -119,11 +120,13 @@ connection.onNotification(
 
 // ---------- diagnostics ----------
 
+const EXTRA_CHECKS = [operatingPointDiagnostics, modelDiagnostics];
+
 const pushes = new PushScheduler((uri) => {
   try {
     const state = store.get(uri);
     if (!state) return;
-    const diags = collectDiagnostics(state).map((d) => toDiagnostic(d, state.lines, uri));
+    const diags = collectDiagnostics(state, EXTRA_CHECKS).map((d) => toDiagnostic(d, state.lines, uri));
     void connection.sendDiagnostics({ uri, version: state.version, diagnostics: diags });
   } catch (err) {
     logError('diagnostics', err);
@@ -210,6 +213,7 @@ connection.onRenameRequest(
   guard('rename', null, (p) => {
     const s = store.get(p.textDocument.uri);
     if (!s) return null;
+    if (typeof p.newName !== 'string') throw new ResponseError(ErrorCodes.InvalidParams, 'the new name must be a string');
     const r = rename(s.analysis, s.lines.offset(p.position), p.newName);
     if (!r.ok) throw new ResponseError(ErrorCodes.InvalidRequest, r.reason);
     return toWorkspaceEdit(p.textDocument.uri, r.edits, s.lines);
@@ -257,7 +261,7 @@ connection.onCodeAction(
     const uri = p.textDocument.uri;
     const s = store.get(uri);
     if (!s) return [];
-    const diags = collectDiagnostics(s);
+    const diags = collectDiagnostics(s, EXTRA_CHECKS);
     const asked = (p.context?.diagnostics ?? [])
       .filter((d) => d.source === 'loopwright' && typeof d.code === 'string')
       .map((d) => ({ code: String(d.code), span: s.lines.spanOf(d.range) }));
@@ -277,7 +281,7 @@ connection.onRequest(RunRequest, async (params: RunRequestParams, token): Promis
     const progress = params.workDoneToken !== undefined ? connection.window.attachWorkDoneProgress(params.workDoneToken) : undefined;
     progress?.begin(`Running ${params.loop}`, 0, undefined, true);
     try {
-      return await runInWorker({ text: doc.getText(), loop: params.loop, mode, settings: settings.runDefaults() }, settings.timeBudgetMs(), token, {
+      return await runInWorker({ text: doc.getText(), loop: params.loop, mode, budgetMs: settings.timeBudgetMs(), settings: settings.runDefaults() }, settings.timeBudgetMs(), token, {
         report: (pct, msg) => progress?.report(pct ?? 0, msg),
       });
     } finally {

@@ -6,6 +6,8 @@ export interface RunJob {
   text: string;
   loop: string;
   mode: RunMode;
+  /** Wall-clock budget of each run inside the driver, ms (the server stops the whole job at its own budget). */
+  budgetMs: number;
   /** Defaults from the settings, used where the file gives none. */
   settings: { tolerance?: number; method?: string };
 }

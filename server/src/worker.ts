@@ -1,25 +1,52 @@
-// The run worker: analyses the text it is given, runs the loop, posts progress and the report.
-// It runs in its own thread, so the server can terminate it at any time (cancel, time budget).
+// The run worker: analyses the text it is given, compiles the loop, runs what the mode asks for
+// (simulate: the nonlinear run; compare: with the linearized run; sweep: with one run per sweep
+// value), posts progress and the report. It runs in its own thread, so the server can terminate
+// it at any time (cancel, time budget).
 
 import { parentPort, workerData } from 'node:worker_threads';
 import { analyze } from '../../language/src/analysis';
+import { linearizeLoop } from '../../language/src/linear/linearize';
+import { compileAnalysis } from '../../language/src/model/compile';
+import type { LoopRunReport } from '../../language/src/protocol';
+import type { IntegratorMethod } from '../../language/src/sim/solver';
+import { buildReport, simulate } from '../../language/src/sim/run';
 import type { RunJob, WorkerMessage } from './worker-protocol';
 
 const post = (m: WorkerMessage) => parentPort?.postMessage(m);
+
+const METHODS = new Set(['adaptive', 'extrapolation', 'stiff']);
 
 function main(job: RunJob): void {
   post({ type: 'progress', percentage: 0, message: `checking ${job.loop}` });
   const analysis = analyze(job.text);
   const errors = analysis.diagnostics.filter((d) => d.severity === 'error');
   if (errors.length) {
-    post({ type: 'error', message: `${job.loop} cannot run: the file has ${errors.length} error(s), the first: ${errors[0].code} ${errors[0].message}`, code: errors[0].code });
+    post({ type: 'error', message: `${job.loop} cannot run: the file has ${errors.length} error${errors.length > 1 ? 's' : ''}, the first: ${errors[0].code} ${errors[0].message}`, code: errors[0].code });
     return;
   }
   if (!analysis.symbols.loops.has(job.loop)) {
     post({ type: 'error', message: `there is no loop named '${job.loop}' in this file` });
     return;
   }
-  post({ type: 'error', message: `running loops is not available in this build (the simulation layer is missing)`, code: 'LW701' });
+  post({ type: 'progress', percentage: 5, message: `compiling ${job.loop}` });
+  const compiled = compileAnalysis(analysis, job.loop);
+  if (!compiled.loop) {
+    const first = compiled.diagnostics.find((d) => d.severity === 'error');
+    post({ type: 'error', message: `${job.loop} cannot run: ${compiled.reason ?? 'the loop could not be compiled'}`, code: first?.code });
+    return;
+  }
+  post({ type: 'progress', percentage: 10, message: `simulating ${job.loop}` });
+  const method = job.settings.method && METHODS.has(job.settings.method) ? (job.settings.method as IntegratorMethod) : undefined;
+  const runs = simulate(compiled.loop, { mode: job.mode, budgetMs: job.budgetMs, ...(job.settings.tolerance ? { tolerance: job.settings.tolerance } : {}), ...(method ? { method } : {}) });
+  post({ type: 'progress', percentage: 90, message: `${runs.length} run${runs.length === 1 ? '' : 's'} done` });
+  const report: LoopRunReport = buildReport(compiled.loop, runs);
+  try {
+    const lin = linearizeLoop(analysis, job.loop);
+    if (lin.ok) report.poles = { closed: lin.poles, open: lin.open };
+  } catch {
+    // poles are an extra; the runs stand without them
+  }
+  post({ type: 'done', report });
 }
 
 try {

@@ -202,6 +202,66 @@ describe('hover', () => {
   });
 });
 
+describe('hover with linear analysis', () => {
+  // The boom's params, by hand: A = [[0, 1], [g/arm, −drag/(load·arm²)]], B = [0, 1/(load·arm²)].
+  const arm = 0.6;
+  const load = 0.9;
+  const drag = 0.02;
+  const g = 9.80665;
+  const a21 = g / arm;
+  const a22 = -drag / (load * arm * arm);
+  const b2 = 1 / (load * arm * arm);
+  // Open-loop poles: roots of λ² − a22·λ − a21 = 0.
+  const disc = Math.sqrt(a22 * a22 + 4 * a21);
+  const poles = [(a22 + disc) / 2, (a22 - disc) / 2];
+  const shown = (x: number, digits: number) => String(Number(x.toPrecision(digits))).replace('-', '−');
+
+  it('on the plant: A, B, C, D labelled with names and units, open-loop poles, residual', async () => {
+    const h = await hoverText(server, BOOM.replace('plant Boom', 'plant Bo|om'));
+    expect(h).toContain('Linearized at `upright`');
+    expect(h).toContain(`| **rate \\[rad/s\\]** | ${shown(a21, 5)} | ${shown(a22, 5)} |`);
+    expect(h).toContain(`| **tilt \\[rad\\]** | 0 | 1 |`);
+    expect(h).toContain(`| **rate \\[rad/s\\]** | ${shown(b2, 5)} |`);
+    expect(h).toContain('drive \\[N\\*m\\]');
+    expect(h).toContain(`| ${shown(poles[0], 4)} |`);
+    expect(h).toContain(`| ${shown(poles[1], 4)} |`);
+    expect(h).toContain('unstable');
+    expect(h).toContain('**Equilibrium residual**');
+    expect(h).toContain('an equilibrium');
+  });
+
+  it('on the operating point: the same linearization', async () => {
+    const h = await hoverText(server, BOOM.replace('operating point upright', 'operating point upr|ight'));
+    expect(h).toContain('(operating point) **upright**');
+    expect(h).toContain(`| **rate \\[rad/s\\]** | ${shown(a21, 5)} | ${shown(a22, 5)} |`);
+  });
+
+  it('on the controller: realization, pole −wf, zero and DC gain kp with its unit', async () => {
+    const h = await hoverText(server, BOOM.replace('controller Steady', 'controller Ste|ady'));
+    expect(h).toContain('**Realization**');
+    expect(h).toContain('| −25 | 1 | 25 |');
+    // kp + kd·s/(1 + s/wf) = (kp + (kp/wf + kd)·s)/(1 + s/wf): zero at −kp/(kp/wf + kd).
+    const zero = -14 / (14 / 25 + 2.2);
+    expect(h).toContain(`drive/err: ${shown(zero, 4)}`);
+    expect(h).toContain('**DC gain**: drive/err = 14 `N*m/rad`');
+  });
+
+  it('on the loop: closed-loop poles, verdict, dominant pair, settling and margins', async () => {
+    const h = await hoverText(server, BOOM.replace('loop Upright', 'loop Upr|ight'));
+    expect(h).toContain('**Closed loop** at its operating point: **stable**');
+    expect(h).toContain('**Dominant pair**');
+    expect(h).toMatch(/\*\*Settling \(2 %\)\*\* ≈ [0-9.]+ s/);
+    expect(h).toContain('| Boom.drive |');
+    expect(h).toContain(`**Open-loop plant poles**: ${shown(poles[0], 4)}, ${shown(poles[1], 4)}`);
+  });
+
+  it('a file with errors says why there is no linear model', async () => {
+    const h = await hoverText(server, BOOM.replace('plant Boom', 'plant Bo|om').replace("tilt' = rate", "tilt' = rat"));
+    expect(h).toContain('(plant) **Boom**');
+    expect(h).toContain('_Linear analysis: the file has errors');
+  });
+});
+
 describe('code lenses', () => {
   it('the boom loop gets Simulate, Compare linear and Sweep (4 runs), with the client commands', async () => {
     const uri = freshUri('lens');
@@ -457,6 +517,16 @@ describe('inlay hints', () => {
     expect(hints).toContainEqual({ after: 'p', label: ': kg*m/s' });
     expect(hints.find((h) => h.after === 'e')?.label).toMatch(/^: (kg\*m\^2\/s\^2|J)$/);
     expect(hints.find((h) => h.after === 'm')).toBeUndefined();
+    server.close(uri);
+  });
+
+  it('the closed-loop verdict after the loop name', async () => {
+    const uri = freshUri('inlay2');
+    await server.open(uri, BOOM);
+    const hints = await inlayLabels(server, uri, BOOM);
+    expect(hints).toContainEqual({ after: 'inertia', label: ': kg*m^2' });
+    const verdict = hints.find((h) => h.after === 'Upright');
+    expect(verdict?.label).toMatch(/^stable · ζ 0\.\d+ · ts ≈ [0-9.]+ s$/);
     server.close(uri);
   });
 });
