@@ -99,7 +99,8 @@ class Dopri5Core implements StepCore {
   accept(t: number, h: number, x: Float64Array, xNew: Float64Array): void {
     const n = this.n;
     const k = this.k;
-    const [r1, r2, r3, r4, r5] = this.r;
+    const r = this.r;
+    const r1 = r[0], r2 = r[1], r3 = r[2], r4 = r[3], r5 = r[4];
     for (let i = 0; i < n; i++) {
       const ydiff = xNew[i] - x[i];
       const bspl = h * k[0][i] - ydiff;
@@ -125,7 +126,8 @@ class Dopri5Core implements StepCore {
   dense(tq: number, out: Float64Array): void {
     const th = (tq - this.tOld) / this.hOld;
     const th1 = 1 - th;
-    const [r1, r2, r3, r4, r5] = this.r;
+    const r = this.r;
+    const r1 = r[0], r2 = r[1], r3 = r[2], r4 = r[3], r5 = r[4];
     for (let i = 0; i < this.n; i++) out[i] = r1[i] + th * (r2[i] + th1 * (r3[i] + th * (r4[i] + th1 * r5[i])));
   }
 
