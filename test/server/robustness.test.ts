@@ -5,7 +5,7 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import type { CompletionItem, Hover, MarkupContent } from 'vscode-languageserver-protocol';
+import { WorkDoneProgress, type CompletionItem, type Hover, type MarkupContent } from 'vscode-languageserver-protocol';
 import type { LoopRunReport } from '../../language/src/protocol';
 import { buildOnce, ROOT, Server } from './harness';
 import { freshUri, lensTitles, positionAt } from './features';
@@ -49,7 +49,7 @@ describe('runs', () => {
     const uri = freshUri('run');
     await server.open(uri, BOOM);
     const progress: string[] = [];
-    server.conn.onProgress({ __kind: 'progress' } as never, 'tok-1', (v: { kind: string; message?: string }) => progress.push(`${v.kind}:${v.message ?? ''}`));
+    server.conn.onProgress(WorkDoneProgress.type, 'tok-1', (v) => void progress.push(`${v.kind}:${'message' in v ? (v.message ?? '') : ''}`));
     const report = await server.request<LoopRunReport>('loopwright/run', { uri, loop: 'Upright', mode: 'simulate', workDoneToken: 'tok-1' });
     expect(report.loop).toBe('Upright');
     expect(report.runs[0].label).toBe('nonlinear');
