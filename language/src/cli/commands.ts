@@ -3,5 +3,6 @@
 import type { CliCommand } from './types';
 import { command as check } from './check';
 import { command as linearize } from './linearize';
+import { command as exportCommand } from './export';
 
-export const COMMANDS: CliCommand[] = [check, linearize];
+export const COMMANDS: CliCommand[] = [check, linearize, exportCommand];
