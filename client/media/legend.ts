@@ -15,7 +15,8 @@ export interface LegendOptions {
   hidden: Hidden;
   signalsBox: HTMLElement;
   runsBox: HTMLElement;
-  onToggle(hidden: Hidden): void;
+  /** A legend entry was pressed: flip that signal (in every run) or that run. */
+  onToggle(what: { signal: string } | { run: string }): void;
 }
 
 function toggleButton(pressed: boolean): HTMLButtonElement {
@@ -30,7 +31,6 @@ export function renderLegend(o: LegendOptions): void {
   o.signalsBox.replaceChildren();
   o.runsBox.replaceChildren();
   const sweepRuns = report.runs.filter((r) => r.kind === 'sweep' && r.sweep);
-  const flip = (list: string[], key: string) => (list.includes(key) ? list.filter((k) => k !== key) : [...list, key]);
 
   for (const g of groupsOf(report)) {
     for (const s of g.signals) {
@@ -42,7 +42,7 @@ export function renderLegend(o: LegendOptions): void {
       if (s.unit) b.append(el('span', 'lw-legend-unit', s.unit));
       if (s.limit) b.append(el('span', 'lw-legend-limit', `limits ${fmt(s.limit.lo)} … ${fmt(s.limit.hi)}`));
       b.title = s.description ? `${s.description} — click to show or hide in every run` : 'Click to show or hide in every run';
-      b.addEventListener('click', () => o.onToggle({ ...hidden, signals: flip(hidden.signals, s.name) }));
+      b.addEventListener('click', () => o.onToggle({ signal: s.name }));
       o.signalsBox.append(b);
     }
   }
@@ -64,9 +64,19 @@ export function renderLegend(o: LegendOptions): void {
       mark.title = run.recovered ? 'recovered' : 'not recovered';
       b.append(mark, el('span', 'lw-sr-only', run.recovered ? 'recovered' : 'not recovered'));
     }
-    b.addEventListener('click', () => o.onToggle({ ...hidden, runs: flip(hidden.runs, run.label) }));
+    b.addEventListener('click', () => o.onToggle({ run: run.label }));
     o.runsBox.append(b);
   });
+}
+
+/** Brings the legend's pressed states in line with `hidden` (entries stay, so focus stays). */
+export function updateLegend(boxes: HTMLElement[], hidden: Hidden): void {
+  for (const box of boxes) {
+    for (const b of box.querySelectorAll<HTMLButtonElement>('.lw-legend-item')) {
+      const off = b.dataset.signal !== undefined ? hidden.signals.includes(b.dataset.signal) : hidden.runs.includes(b.dataset.run ?? '');
+      b.setAttribute('aria-pressed', String(!off));
+    }
+  }
 }
 
 interface ReadoutItem {

@@ -17,7 +17,7 @@
 //
 // Sequential (sweep runs, coloured by the swept value): three stops from a blue through a teal to
 // a yellow, with lightness rising monotonically (a blue→yellow ramp reads the same with the
-// red–green axis folded). Dark: #6C7BFF → #3FB8C4 → #F4E76E. Light: #1B2A6B → #1F8291 → #C98A00
+// red–green axis folded). Dark: #6C7BFF → #3FB8C4 → #F4E76E. Light: #1B2A6B → #22707F → #B87E00
 // (kept dark enough to show on white).
 
 export type Variant = 'dark' | 'light';
@@ -29,7 +29,7 @@ export const CATEGORICAL: Record<Variant, readonly string[]> = {
 
 export const SEQUENTIAL: Record<Variant, readonly string[]> = {
   dark: ['#6C7BFF', '#3FB8C4', '#F4E76E'],
-  light: ['#1B2A6B', '#1F8291', '#C98A00'],
+  light: ['#1B2A6B', '#22707F', '#B87E00'],
 };
 
 /** Dash patterns (CSS px) used once the categorical colours run out, and for extra runs. */

@@ -6,7 +6,7 @@ import type { LoopRunReport } from '../../language/src/protocol';
 import { reportToCsv } from './csv';
 import { el } from './dom';
 import { connectHost } from './host';
-import { Readout, renderLegend } from './legend';
+import { Readout, renderLegend, updateLegend } from './legend';
 import { EMBEDDED_REPORT_ID, parseHostMessage, parseState, type Hidden, type HostToPage, type PlotState, type Zoom } from './messages';
 import { Plots } from './plots';
 import { composePng } from './png';
@@ -201,7 +201,7 @@ class App {
     document.title = `Loopwright — ${report.loop}`;
     this.ui.title.textContent = report.file ? `${report.loop} — ${report.file}` : report.loop;
     this.renderAlerts(report);
-    renderLegend({ report, theme: this.theme, hidden: st.hidden, signalsBox: this.ui.legend, runsBox: this.ui.runs, onToggle: (h) => this.toggle(h) });
+    renderLegend({ report, theme: this.theme, hidden: st.hidden, signalsBox: this.ui.legend, runsBox: this.ui.runs, onToggle: (w) => this.toggle(w) });
     renderResults(this.ui.results, report);
     this.plots = new Plots({
       report,
@@ -247,22 +247,16 @@ class App {
     this.save();
   }
 
-  private toggle(hidden: Hidden): void {
+  private toggle(what: { signal: string } | { run: string }): void {
     if (!this.state || !this.plots) return;
+    const flip = (list: string[], key: string) => (list.includes(key) ? list.filter((k) => k !== key) : [...list, key]);
+    const h = this.state.hidden;
+    const hidden: Hidden = 'signal' in what ? { ...h, signals: flip(h.signals, what.signal) } : { ...h, runs: flip(h.runs, what.run) };
     this.state = { ...this.state, hidden };
     this.plots.setHidden(hidden);
-    renderLegend({ report: this.state.report, theme: this.theme, hidden, signalsBox: this.ui.legend, runsBox: this.ui.runs, onToggle: (h) => this.toggle(h) });
-    const focus = document.activeElement;
-    if (focus instanceof HTMLElement && !focus.isConnected) this.refocus(focus);
+    updateLegend([this.ui.legend, this.ui.runs], hidden);
     this.readout?.refresh();
     this.save();
-  }
-
-  /** Keeps keyboard focus on the legend entry that was just toggled (the legend was rebuilt). */
-  private refocus(old: HTMLElement): void {
-    const key = old.dataset.signal !== undefined ? ['signal', old.dataset.signal] : ['run', old.dataset.run];
-    const next = [...this.ui.legend.children, ...this.ui.runs.children].find((b) => b instanceof HTMLElement && b.dataset[key[0]!] === key[1]);
-    if (next instanceof HTMLElement) next.focus();
   }
 
   private save(): void {

@@ -195,6 +195,8 @@ export class Plots {
         { ...axisCommon, size: 56, values: (_u: uPlot, splits: number[]) => splits.map((v) => fmt(v)) },
       ],
       cursor: {
+        // Only the vertical line: a horizontal one would be meaningless on the other panels.
+        y: false,
         drag: { x: true, y: false, setScale: true },
         points: { show: false },
         sync: { key: SYNC_KEY, setSeries: false, scales: ['x', null], filters: { pub: (type) => type === 'mousemove' } },
