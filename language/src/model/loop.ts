@@ -229,8 +229,9 @@ export function compileLoop(input: LoopCompileInput): CompiledLoop | undefined {
           case 'output': {
             const i = inst.plan.outputs.findIndex((s) => s.name === m.name);
             if (i < 0) return undefined;
+            const v = inst.sampled ? g.leaf('h', inst.heldOffset + i) : low.output(i);
             noteOrder(inst.name);
-            return inst.sampled ? g.leaf('h', inst.heldOffset + i) : low.output(i);
+            return v;
           }
           case 'input': {
             const i = inst.plan.inputs.findIndex((s) => s.name === m.name);
