@@ -4,8 +4,8 @@
 // Nørsett & Wanner, Solving ODEs I, §II.2, Theorem 2.13 [memory]); for a continuous extension
 // Σ b_i(θ) Φ_i(τ) = θ^|τ|/γ(τ) (HNW I §II.6 [memory]).
 // Rosenbrock: the same with α_ij on vertices with several sons and β_ij = α_ij + γ_ij (diagonal
-// included) on vertices with one son (Hairer & Wanner, Solving ODEs II, §IV.7, Theorem 7.? and
-// Table 7.1 [memory]); stability function R(z) = 1 + z bᵀ(I − zB)⁻¹𝟙 with B = (β_ij) (HW II §IV.7
+// included) on vertices with one son (Hairer & Wanner, Solving ODEs II, §IV.7, Table 7.1
+// [memory]); stability function R(z) = 1 + z bᵀ(I − zB)⁻¹𝟙 with B = (β_ij) (HW II §IV.7
 // [memory]); L-stability = A-stability and R(∞) = 0 (HW II §IV.3).
 // The RODAS numbers are stored in the transformed form and converted back here:
 // Γ = (I/γ − C)⁻¹, (α_ij) = A Γ, b = m Γ (HW II §IV.7, the relations after (7.25) [memory]).

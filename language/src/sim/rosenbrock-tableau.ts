@@ -11,10 +11,11 @@
 // solution is the stage-6 argument, which makes the error estimate simply u6.
 // Dense output: x(t0 + sh) = (1−s) x0 + s (x1 + (1−s)(c2 + s c3)), c2 = Σ d2_i u_i, c3 = Σ d3_i u_i.
 //
-// These numbers were typed from memory; test/sim/integrator-coefficients.test.ts converts them back
-// to the standard form (α_ij, γ_ij, b_i) and checks the Rosenbrock order conditions of HW II
-// Table IV.7.1 (order 4, embedded order 3, dense output order 3 at every s), stiff accuracy and
-// R(∞) = 0. Every coefficient enters those conditions, so a mistyped digit fails them.
+// The digits are recalled, not re-read from the book [memory]; therefore
+// test/sim/integrator-coefficients.test.ts converts them back to the standard form (α_ij, γ_ij, b_i)
+// and checks the Rosenbrock order conditions of HW II Table IV.7.1 (order 4, embedded order 3,
+// dense output order 3 at every s), stiff accuracy and R(∞) = 0. Every coefficient enters those
+// conditions, so a mistyped digit fails them.
 
 export const RODAS = {
   stages: 6,

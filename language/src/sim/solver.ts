@@ -14,8 +14,9 @@
  *   Returning 'stop' ends the segment after this step (status 'stopped', `t` and `x` of this step).
  * - Events: detect a sign change over [tPrev, t], locate the root with `dense()` inside the
  *   callback, return 'stop', then start the next segment at the event time from the dense state,
- *   passing the previous `hNext` as `h0`. Restarts allocate nothing for 'adaptive' and 'stiff'
- *   (all work arrays are made once per integrator); 'extrapolation' wraps a library that allocates.
+ *   passing the previous `hNext` as `h0`. For 'adaptive' and 'stiff' neither steps nor restarts
+ *   allocate (all work arrays are made once per integrator; each call returns one small result
+ *   object); 'extrapolation' wraps a library that allocates per step.
  * - `integrate` never throws. Non-finite values from `f` (or in the state), step-size underflow,
  *   too many steps, a singular iteration matrix, bad arguments and exceptions thrown by `f`, `jac`
  *   or `onStep` all end in status 'failed' with a `failure` that names the time and, when known,

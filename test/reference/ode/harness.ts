@@ -1,4 +1,4 @@
-// Small helpers for the integrator tests: run a problem and record the accepted steps, check a
+// Utilities for the integrator tests: run a problem and record the accepted steps, check a
 // Jacobian by central differences, locate a root on the dense output.
 
 import { createIntegrator } from '../../../language/src/sim/solver';

@@ -1,6 +1,5 @@
 // Published ODE test problems (with their sources) and our own fixture systems, each with the exact
 // Jacobian the model compiler would supply. Shared by the integrator tests in test/sim/.
-// Values and sources as collected in the project's reference list (REFERENCES.md).
 
 import type { OdeProblem } from '../../../language/src/sim/solver';
 
