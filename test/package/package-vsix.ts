@@ -12,7 +12,7 @@ export function packageVsix(): string {
   if (!existsSync(join(ROOT, 'README.md'))) {
     throw new Error('README.md is missing at the top of the repository: vsce needs it to package the extension.');
   }
-  execFileSync(process.execPath, [join(ROOT, 'scripts', 'build.mjs')], { cwd: ROOT, stdio: 'pipe' });
+  if (process.env.LOOPWRIGHT_DIST_BUILT !== '1') execFileSync(process.execPath, [join(ROOT, 'scripts', 'build.mjs')], { cwd: ROOT, stdio: 'pipe' });
   try {
     execFileSync('npm', ['run', '--silent', 'package'], { cwd: ROOT, stdio: 'pipe', env: { ...process.env, CI: 'true' } });
   } catch (error) {

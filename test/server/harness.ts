@@ -38,7 +38,7 @@ export function buildOnce(): void {
     }
   }
   try {
-    if (!existsSync(stamp) || !existsSync(SERVER)) {
+    if (process.env.LOOPWRIGHT_DIST_BUILT !== '1' && (!existsSync(stamp) || !existsSync(SERVER))) {
       execFileSync(process.execPath, [join(ROOT, 'scripts', 'build.mjs')], { cwd: ROOT, stdio: 'pipe' });
       mkdirSync(stamp, { recursive: true });
     }
@@ -130,6 +130,19 @@ export class Server {
         },
       });
     });
+  }
+
+  /** Resolves with the first diagnostics message for `uri` (already received or coming) that satisfies `pred`. */
+  async diagnosticsWhere(uri: string, pred: (d: Diagnostic[]) => boolean, timeoutMs = 20_000): Promise<Diagnostic[]> {
+    const deadline = Date.now() + timeoutMs;
+    for (;;) {
+      const seen = this.diags.get(uri) ?? [];
+      const hit = seen.find((p) => pred(p.diagnostics));
+      if (hit) return hit.diagnostics;
+      const left = deadline - Date.now();
+      if (left <= 0) throw new Error(`no matching diagnostics for ${uri} within ${timeoutMs} ms`);
+      await this.nextDiagnostics(uri, undefined, left).catch(() => undefined);
+    }
   }
 
   diagnosticsOf(uri: string): Diagnostic[] {

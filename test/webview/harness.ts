@@ -23,7 +23,7 @@ export function launch(): Promise<Browser> {
 
 /** Builds the bundles (dist/media/plot.js, the CSS copies) and returns the media texts. */
 export function buildMedia(): Record<string, string> {
-  execFileSync(process.execPath, [join(ROOT, 'scripts', 'build.mjs')], { cwd: ROOT, stdio: 'pipe' });
+  if (process.env.LOOPWRIGHT_DIST_BUILT !== '1') execFileSync(process.execPath, [join(ROOT, 'scripts', 'build.mjs')], { cwd: ROOT, stdio: 'pipe' });
   mkdirSync(OUT, { recursive: true });
   const media: Record<string, string> = {};
   for (const f of ['plot.js', 'style.css', 'uPlot.min.css']) media[f] = readFileSync(join(ROOT, 'dist', 'media', f), 'utf8');
