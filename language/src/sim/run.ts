@@ -184,9 +184,11 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
 
   // ---- one interval [a, b] of a step, with its dense output ----
   const processInterval = (view: StepView, a: number, b: number, xb: Float64Array) => {
-    // grid points in (a, b]
+    // grid points in (a, b]; one exactly on a breakpoint or sample instant waits for the values after it
+    const deferB = b === segmentStop && b < tEnd;
     while (nextGrid < points && gridT[nextGrid] <= b) {
       const tg = gridT[nextGrid];
+      if (deferB && tg >= b) break;
       if (tg >= b) {
         ev.traced(b, xb, trBuf);
       } else {
@@ -216,9 +218,19 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
         }
       }
     }
-    recordSample(b, trBuf);
+    if (!deferB) recordSample(b, trBuf);
     trPrev.set(trBuf);
     noteTail(b, xb);
+  };
+  /** After a breakpoint or sample instant: the values there (right-continuous) for the grid and the metrics. */
+  const afterStop = (ts: number, xs: Float64Array) => {
+    ev.traced(ts, xs, trBuf);
+    while (nextGrid < points && gridT[nextGrid] <= ts) {
+      writeGrid(nextGrid, trBuf);
+      nextGrid++;
+    }
+    recordSample(ts, trBuf);
+    trPrev.set(trBuf);
   };
   const trOne = new Float64Array(nTr);
   const timeDep = c.tracedTimeDependent;
@@ -374,9 +386,11 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
 
   let h0: number | undefined;
   let events = 0;
+  let segmentStop = NaN;
   const maxEvents = 100000;
   while (!error && t < tEnd) {
     const stop = nextStop(t);
+    segmentStop = stop;
     eventAt = NaN;
     eventLimit = -1;
     let res: SegmentResult;
@@ -426,6 +440,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
       break;
     }
     noteModes(t);
+    afterStop(t, x);
     h0 = undefined;
   }
   noteModes(Math.min(t, tEnd));
