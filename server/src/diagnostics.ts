@@ -4,7 +4,10 @@
 //     burst of keystrokes costs one analysis and one message;
 //   - on close, an empty list clears them.
 // A push is for one document version: if the document changed again while waiting, the newer
-// change's timer does the work. Diagnostics from later layers (model, linear analysis) are
+// change's timer does the work. Each push has two phases: the front end's diagnostics (syntax,
+// names, units) at once, then — after yielding to the event loop, and only if the version is
+// still current and the later layers found something — the full list with the model and linear
+// diagnostics (algebraic loops, operating points), which need every loop compiled. Diagnostics from later layers (model, linear analysis) are
 // added by `extraChecks` (memoised per analysis) before each push.
 
 import type { Analysis } from '../../language/src/analysis';

@@ -122,12 +122,24 @@ connection.onNotification(
 
 const EXTRA_CHECKS = [operatingPointDiagnostics, modelDiagnostics];
 
+// Two phases: the front end's diagnostics go out at once; those of the model and linear layers
+// (which compile every loop) follow in a second message, unless the document changed meanwhile.
 const pushes = new PushScheduler((uri) => {
   try {
     const state = store.get(uri);
     if (!state) return;
-    const diags = collectDiagnostics(state, EXTRA_CHECKS).map((d) => toDiagnostic(d, state.lines, uri));
-    void connection.sendDiagnostics({ uri, version: state.version, diagnostics: diags });
+    const front = collectDiagnostics(state);
+    void connection.sendDiagnostics({ uri, version: state.version, diagnostics: front.map((d) => toDiagnostic(d, state.lines, uri)) });
+    setImmediate(() => {
+      try {
+        if (store.peek(uri) !== state) return;
+        const all = collectDiagnostics(state, EXTRA_CHECKS);
+        if (all.length === front.length) return;
+        void connection.sendDiagnostics({ uri, version: state.version, diagnostics: all.map((d) => toDiagnostic(d, state.lines, uri)) });
+      } catch (err) {
+        logError('diagnostics (model)', err);
+      }
+    });
   } catch (err) {
     logError('diagnostics', err);
   }

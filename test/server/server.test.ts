@@ -7,6 +7,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { CodeAction, FoldingRange, InitializeResult } from 'vscode-languageserver-protocol';
 import { buildOnce, ROOT, Server } from './harness';
 import {
+  applyEdits,
   completionLabels,
   definitionSpan,
   formatted,
@@ -85,12 +86,14 @@ describe('diagnostics', () => {
     server.close(uri);
   });
 
-  async function diagnosticsOf(src: string) {
+  /** Diagnostics of a marked source; with `code`, waits for the message that has it (later layers push second). */
+  async function diagnosticsOf(src: string, code?: string) {
     const m = mark(src);
     const uri = freshUri('diag');
-    const d = await server.open(uri, m.text);
+    const first = await server.open(uri, m.text);
+    const diagnostics = code ? await server.diagnosticsWhere(uri, (d) => d.some((x) => x.code === code)) : first.diagnostics;
     server.close(uri);
-    return { m, list: d.diagnostics.map((x) => ({ code: x.code, text: rangeText(m.text, x.range), range: x.range, message: x.message, related: x.relatedInformation })) };
+    return { m, list: diagnostics.map((x) => ({ code: x.code, text: rangeText(m.text, x.range), range: x.range, message: x.message, related: x.relatedInformation })) };
   }
 
   it('an undefined name: LW201 exactly on the name', async () => {
@@ -123,6 +126,35 @@ describe('diagnostics', () => {
     const { m, list } = await diagnosticsOf('plant P {\n  state θ [rad]\n  θ\' = «ω»\n}\n');
     expect(list.map((d) => d.code)).toEqual(['LW201']);
     expect(list[0].range).toEqual(rangeOf(m.text, m.ranges[0]));
+  });
+
+  it('an algebraic loop: LW404 on every arrow of the cycle, each naming the others', async () => {
+    const src = 'controller A {\n  input u [m]\n  output y [m] = u\n}\ncontroller B {\n  input u [m]\n  output y [m] = u\n}\nloop L {\n  «A.y -> B.u»\n  «B.y -> A.u»\n  simulate 1 [s]\n}\n';
+    const { m, list } = await diagnosticsOf(src, 'LW404');
+    expect(list.map((d) => d.code)).toEqual(['LW404', 'LW404']);
+    expect(list.map((d) => d.range)).toEqual(m.ranges.map((r) => rangeOf(m.text, r)));
+    expect(list[0].related?.map((r) => r.location.range)).toEqual([rangeOf(m.text, m.ranges[1])]);
+    expect(list[1].related?.map((r) => r.location.range)).toEqual([rangeOf(m.text, m.ranges[0])]);
+    expect(list[0].related?.[0].location.uri).toMatch(/^file:\/\/\/test\/diag-/);
+  });
+
+  it('an operating point off equilibrium: LW601 from the linear layer, with the trim fix as a code action', async () => {
+    const text = BOOM.replace('upright { tilt = 0 [rad]', 'upright { tilt = 0.1 [rad]');
+    const uri = freshUri('lw601');
+    await server.open(uri, text);
+    const list = await server.diagnosticsWhere(uri, (d) => d.some((x) => x.code === 'LW601'));
+    const d = list.find((x) => x.code === 'LW601')!;
+    expect(rangeText(text, d.range)).toMatch(/^operating point upright \{/);
+    expect(d.severity).toBe(2);
+    expect(d.message).toContain("rate'");
+    const actions = await server.request<CodeAction[]>('textDocument/codeAction', { textDocument: { uri }, range: d.range, context: { diagnostics: [d] } });
+    const trim = actions.find((a) => a.title.startsWith('Trim'))!;
+    expect(trim.isPreferred).toBe(true);
+    const fixed = applyEdits(text, trim.edit!.changes![uri]);
+    // The input that holds tilt = 0.1 rad: drive = −g·load·arm·sin(0.1).
+    const drive = Number(/drive = (-?[0-9.e-]+) \[N\*m\] \}/.exec(fixed)![1]);
+    expect(drive).toBeCloseTo(-9.80665 * 0.9 * 0.6 * Math.sin(0.1), 6);
+    server.close(uri);
   });
 
   it('edits are debounced and answered for the newest version', async () => {
