@@ -4,5 +4,6 @@ import type { CliCommand } from './types';
 import { command as check } from './check';
 import { command as linearize } from './linearize';
 import { command as exportCommand } from './export';
+import { command as sweep } from './sweep';
 
-export const COMMANDS: CliCommand[] = [check, linearize, exportCommand];
+export const COMMANDS: CliCommand[] = [check, linearize, sweep, exportCommand];

@@ -8,6 +8,7 @@ import type { RunResult, SignalMetrics } from '../protocol';
 import { buildReport, simulate } from '../sim/run';
 import { diagnosticLine, locate, table } from './format';
 import { readSource } from './source';
+import { writeHtmlReport } from './report';
 import { EXIT_FAIL, EXIT_OK, EXIT_USAGE, UsageError, flagString, parseArgs, type CliCommand } from './types';
 
 const num = (v: number | null | undefined, digits = 4): string => (v === null || v === undefined || !Number.isFinite(v) ? '—' : String(Number(v.toPrecision(digits))));
@@ -50,12 +51,13 @@ members ask, and prints per run a table of metrics of the shown signals (initial
   --loop NAME   the loop to run
   --json        print {runs: [{label, t, signals, metrics, expects, ...}], stats} instead
   --csv FILE    also write every run's samples (display units) to FILE
+  --html FILE   also write a self-contained HTML report (plots, metrics, expects, poles, model)
 Exit status: 0 all runs finished and every expect holds, 1 a run failed or an expect failed,
 2 usage error, unreadable file or a file that cannot be run.`,
   async run(args, io) {
     let p;
     try {
-      p = parseArgs(args, { valued: ['loop', 'csv'], booleans: ['json'] });
+      p = parseArgs(args, { valued: ['loop', 'csv', 'html'], booleans: ['json'] });
     } catch (e) {
       if (e instanceof UsageError) {
         io.err(`loopwright simulate: ${e.message}`);
@@ -93,6 +95,8 @@ Exit status: 0 all runs finished and every expect holds, 1 a run failed or an ex
     const report = buildReport(c, runs, file);
     const units = new Map(report.signals.map((s) => [s.name, s.unit]));
     const failed = runs.some((r) => r.error || r.expects.some((e) => !e.pass));
+    const html = flagString(p, 'html');
+    if (html && !writeHtmlReport(io, 'simulate', html, { report, analysis: a, loop: c.name })) return EXIT_USAGE;
     const csv = flagString(p, 'csv');
     if (csv) {
       try {
