@@ -19,7 +19,10 @@
 // steps by more than 10° or |L| by more than 20 %, then each crossing is solved by Brent's
 // method in ln ω (on ln|L| for gain crossovers, on the continuous phase for phase crossovers),
 // so the figures are not limited by the grid. Several crossovers: the reported margins are the
-// smallest; all crossings are listed.
+// smallest; all crossings are listed. Noise floor: far above its poles a realization's |L| is
+// tiny and its phase is rounding noise, so samples with |L| below 1e-12 of the largest |L| on the
+// grid are not refined and yield no phase crossover (their critical gain would exceed 1e12);
+// refinement stops after 50 × the base grid.
 //
 // API
 //   margins(L: StateSpace | TransferFn, opts?) → MarginReport
@@ -122,22 +125,27 @@ function setup(sys: StateSpace | TransferFn, o: MarginOptions): Setup | string {
 interface Sample { w: number; v: Complex }
 
 /** Log grid refined by bisection where the phase or magnitude steps too far. */
-function sampleGrid(L: TransferFn, lo: number, hi: number, perDecade: number): Sample[] {
+function sampleGrid(L: TransferFn, lo: number, hi: number, perDecade: number): { g: Sample[]; floor: number } {
   const pts = logspace(lo, hi, perDecade).map((w) => ({ w, v: atOmega(L, w) }));
+  const peak = Math.max(1, ...pts.map((p) => cAbs(p.v)).filter(Number.isFinite));
+  const floor = NOISE_FLOOR * peak;
+  const budget = 50 * pts.length;
   const out: Sample[] = [pts[0]];
   const refine = (a: Sample, b: Sample, depth: number): void => {
-    const ok = !Number.isFinite(a.v.re) || !Number.isFinite(b.v.re) ? depth > 6 : (() => {
-      const ma = cAbs(a.v), mb = cAbs(b.v);
-      return Math.abs(deg(cDiv(b.v, a.v))) <= 10 && Math.abs(Math.log(mb / ma)) <= 0.2;
-    })();
-    if (ok || depth >= 24) { out.push(b); return; }
+    const ma = cAbs(a.v), mb = cAbs(b.v);
+    const ok = !Number.isFinite(ma) || !Number.isFinite(mb)
+      ? depth > 6
+      : (ma < floor && mb < floor) || (Math.abs(deg(cDiv(b.v, a.v))) <= 10 && Math.abs(Math.log(mb / ma)) <= 0.2);
+    if (ok || depth >= 24 || out.length > budget) { out.push(b); return; }
     const w = Math.sqrt(a.w * b.w), m = { w, v: atOmega(L, w) };
     refine(a, m, depth + 1);
     refine(m, b, depth + 1);
   };
   for (let i = 1; i < pts.length; i++) refine(pts[i - 1], pts[i], 0);
-  return out;
+  return { g: out, floor };
 }
+
+const NOISE_FLOOR = 1e-12;
 
 const finite = (z: Complex): boolean => Number.isFinite(z.re) && Number.isFinite(z.im) && cAbs(z) > 0;
 
@@ -157,7 +165,7 @@ function gainCrossings(L: TransferFn, g: Sample[]): GainCrossing[] {
   return out;
 }
 
-function phaseCrossings(L: TransferFn, g: Sample[], D: number): PhaseCrossing[] {
+function phaseCrossings(L: TransferFn, g: Sample[], D: number, floor: number): PhaseCrossing[] {
   const out: PhaseCrossing[] = [];
   const add = (w: number, z: Complex): void => {
     const m = cAbs(z);
@@ -170,7 +178,7 @@ function phaseCrossings(L: TransferFn, g: Sample[], D: number): PhaseCrossing[] 
   let pa = NaN;
   for (let i = 1; i < g.length; i++) {
     const a = g[i - 1], b = g[i];
-    if (!finite(a.v) || !finite(b.v)) { pa = NaN; continue; }
+    if (!finite(a.v) || !finite(b.v) || (cAbs(a.v) < floor && cAbs(b.v) < floor)) { pa = NaN; continue; }
     if (!Number.isFinite(pa)) pa = deg(a.v);
     const base = pa;
     const phase = (z: Complex): number => base + deg(cDiv(z, a.v));
@@ -184,7 +192,7 @@ function phaseCrossings(L: TransferFn, g: Sample[], D: number): PhaseCrossing[] 
       if (u === null) continue;
       const w = Math.exp(u), z = atOmega(L, w);
       // A phase jump at a zero or pole on the axis is not a crossing: require L real negative.
-      if (finite(z) && z.re < 0 && Math.abs(z.im) <= 1e-6 * cAbs(z)) add(w, z);
+      if (finite(z) && z.re < 0 && Math.abs(z.im) <= 1e-6 * cAbs(z) && cAbs(z) >= floor) add(w, z);
     }
   }
   if (D < 0) add(Infinity, { re: D, im: 0 });
@@ -216,9 +224,9 @@ export function margins(sys: StateSpace | TransferFn, o: MarginOptions = {}): Ma
   const mags = [...poles, ...zeros].map(cAbs);
   const [lo, hi] = o.omegaRange ?? naturalRange(mags, 3);
   if (!(lo > 0 && hi > lo && Number.isFinite(hi))) return failed('bad frequency range');
-  const g = sampleGrid(L, lo, hi, o.pointsPerDecade ?? 200);
+  const { g, floor } = sampleGrid(L, lo, hi, o.pointsPerDecade ?? 200);
   const gcs = gainCrossings(L, g).sort((a, b) => a.omega - b.omega);
-  const pcs = phaseCrossings(L, g, D).sort((a, b) => a.omega - b.omega);
+  const pcs = phaseCrossings(L, g, D, floor).sort((a, b) => a.omega - b.omega);
   const P = poles.filter((p) => p.re > tol).length;
   const axisPoles = poles.filter((p) => Math.abs(p.re) <= tol && p.im >= 0).map((p) => p.im);
   const nz = mags.filter((m) => m > 0);

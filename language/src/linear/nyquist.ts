@@ -13,12 +13,15 @@
 // 0⁺ → +j∞, including the semicircles at jω₀ > 0) plus, with a pole at the origin, the angle along
 // the semicircle round the origin. The arc at infinity adds nothing for a proper L (it maps to
 // the single point D). Each piece is sampled adaptively: a step is halved until L − q turns by
-// less than π/8 and moves by less than a quarter of its distance from q.
+// less than π/8 and moves by less than a quarter of its distance from q. Where |L| is below
+// 1e-9·|q| the step cannot turn L − q noticeably and is not refined (far above the poles a
+// realization's L is tiny and its phase is rounding noise). At most 200 000 extra evaluations per
+// count; beyond that `converged` is false.
 //
 // API
 //   nyquistPath(opts) → NyquistPath;  windingNumber(L, q, path) → { turns, exact, minDistance }
 
-import { cAbs, cArg, cDiv, cSub, type Complex } from './complex';
+import { cAbs, cAdd, cArg, cDiv, cSub, type Complex } from './complex';
 import type { TransferFn } from './freqresp';
 
 /** One piece of the contour: s(t) for t in [0, 1]; `twice` pieces are counted for both halves. */
@@ -85,12 +88,17 @@ export interface Winding {
   exact: number;
   /** Smallest |L(s) − q| met on the contour. */
   minDistance: number;
+  /** False when the refinement budget ran out (the count may then be wrong). */
+  converged: boolean;
 }
 
 const MAX_DEPTH = 40;
+const BUDGET = 200_000;
+const NEGLIGIBLE = 1e-9;
 
 export function windingNumber(L: TransferFn, q: Complex, path: NyquistPath): Winding {
-  let total = 0, minDistance = Infinity;
+  let total = 0, minDistance = Infinity, spent = 0;
+  const qAbs = cAbs(q);
   let base = path.cache.get(L);
   if (!base) {
     base = path.pieces.map((piece) => Array.from({ length: piece.samples + 1 }, (_, i) => L(piece.at(i / piece.samples))));
@@ -103,8 +111,10 @@ export function windingNumber(L: TransferFn, q: Complex, path: NyquistPath): Win
     const walk = (t0: number, f0: Complex, t1: number, f1: Complex, depth: number): void => {
       const d = cArg(cDiv(f1, f0));
       const near = Math.min(cAbs(f0), cAbs(f1));
-      const ok = Math.abs(d) < Math.PI / 8 && cAbs(cSub(f1, f0)) < 0.25 * near;
-      if (ok || depth >= MAX_DEPTH || !Number.isFinite(d)) { if (Number.isFinite(d)) angle += d; return; }
+      const tiny = cAbs(cAdd(f0, q)) < NEGLIGIBLE * qAbs && cAbs(cAdd(f1, q)) < NEGLIGIBLE * qAbs;
+      const ok = tiny || (Math.abs(d) < Math.PI / 8 && cAbs(cSub(f1, f0)) < 0.25 * near);
+      if (ok || depth >= MAX_DEPTH || spent >= BUDGET || !Number.isFinite(d)) { if (Number.isFinite(d)) angle += d; return; }
+      spent++;
       const tm = 0.5 * (t0 + t1), fm = f(tm);
       minDistance = Math.min(minDistance, cAbs(fm));
       walk(t0, f0, tm, fm, depth + 1);
@@ -121,5 +131,5 @@ export function windingNumber(L: TransferFn, q: Complex, path: NyquistPath): Win
     total += piece.twice ? 2 * angle : angle;
   }
   const exact = total / (2 * Math.PI);
-  return { turns: Math.round(exact) + 0, exact, minDistance };
+  return { turns: Math.round(exact) + 0, exact, minDistance, converged: spent < BUDGET };
 }
