@@ -99,6 +99,8 @@ export class ServerConnection implements vscode.Disposable {
         { scheme: 'untitled', language: LANGUAGE_ID },
       ],
       outputChannel: this.output,
+      // The server reads settings at start and again on each change notification.
+      synchronize: { configurationSection: 'loopwright' },
       initializationOptions: () => ({ trusted: vscode.workspace.isTrusted, settings: currentSettings() }),
       errorHandler: new RestartLimiter(() => this.output),
       initializationFailedHandler: (error) => {

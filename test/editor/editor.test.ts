@@ -3,11 +3,11 @@
 // step go to test-output/editor/. Run with `npm run test:editor`.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
-import { existsSync, rmSync } from 'node:fs';
+import { existsSync, readFileSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
 import { packageVsix, ROOT } from '../package/package-vsix';
 import { ensureSandbox, startCodeServer, type RunningCodeServer } from './code-server';
-import { makeWorkspace, type TestWorkspace } from './workspace';
+import { grammarProbes, makeWorkspace, type TestWorkspace } from './workspace';
 import {
   activeEditor,
   closePanel,
@@ -76,11 +76,12 @@ describe('Loopwright in the workbench', () => {
       await openFile(page, 'boom.loop', 'plant');
       // The workbench may show the file before the extension's contributions are registered.
       await expect.poll(() => languageMode(page), { timeout: 60_000, interval: 500 }).toBe('Loopwright');
-      const keyword = await tokenColor(page, 'plant');
-      const blockName = await tokenColor(page, 'Boom');
-      const number = await tokenColor(page, '0.6');
-      const unit = await tokenColor(page, 'kg');
-      const comment = await tokenColor(page, '# unit inferred', { partial: true });
+      const probe = grammarProbes(readFileSync(ws.boom, 'utf8'));
+      const keyword = await tokenColor(page, probe.keyword);
+      const blockName = await tokenColor(page, probe.blockName);
+      const number = await tokenColor(page, probe.number);
+      const unit = await tokenColor(page, probe.unit);
+      const comment = await tokenColor(page, probe.comment, { partial: true });
       const plain = await activeEditor(page).locator('.view-lines').evaluate((el) => getComputedStyle(el).color);
       // Without the grammar every token has the editor's plain text colour.
       for (const c of [keyword, blockName, number, unit, comment]) expect(c).not.toBe(plain);
@@ -153,7 +154,9 @@ describe('Loopwright in the workbench', () => {
       await page.locator('.tab', { hasText: 'Upright' }).first().waitFor({ timeout: 60_000 }).catch(async (e) => {
         throw new Error(`no plot panel opened; notifications: ${(await notifications(page)).join(' | ')}; ${e}`);
       });
-      const frame = await waitForDrawnCanvas(page);
+      const frame = await waitForDrawnCanvas(page).catch(async (e) => {
+        throw new Error(`${e instanceof Error ? e.message : e}; notifications: ${(await notifications(page)).join(' | ')}`);
+      });
       expect(await frame.locator('canvas').count()).toBeGreaterThan(0);
     });
   });

@@ -144,10 +144,16 @@ export async function dismissHover(page: Page): Promise<void> {
   await page.keyboard.press('Escape');
 }
 
-/** Frames (webviews are nested iframes) that hold at least one canvas with drawn pixels. */
+/** Webview frames: each webview is an iframe holding another iframe with the page's content. */
+export function webviewFrames(page: Page): Frame[] {
+  return page.frames().filter((f) => f !== page.mainFrame() && /vscode-webview|webview/i.test(f.url()));
+}
+
+/** Webview frames that hold at least one canvas with drawn pixels (the workbench's own canvases,
+ * such as the minimap, are in the main frame and do not count). */
 export async function framesWithDrawnCanvas(page: Page): Promise<Frame[]> {
   const found: Frame[] = [];
-  for (const frame of page.frames()) {
+  for (const frame of webviewFrames(page)) {
     try {
       const drawn = await frame.evaluate(() => {
         for (const c of Array.from(document.querySelectorAll('canvas'))) {

@@ -54,3 +54,21 @@ export function makeWorkspace(root: string, fixtures: string): TestWorkspace {
   writeFileSync(scratch, '');
   return { dir, boom, boomFromSamples, unitError, scratch, copied };
 }
+
+/** Tokens of a .loop text whose colours the grammar step compares. */
+export interface GrammarProbes {
+  keyword: string;
+  blockName: string;
+  number: string;
+  unit: string;
+  /** The start of the first comment after the `#` (the editor splits long tokens). */
+  comment: string;
+}
+
+export function grammarProbes(text: string): GrammarProbes {
+  const block = /^\s*(plant|controller|loop)\s+([\p{L}_][\p{L}\p{N}_]*)/mu.exec(text);
+  const quantity = /(?<![\p{L}\p{N}_.])(\d+\.\d+|\d+)\s*\[\s*([\p{L}]+)\s*\]/u.exec(text);
+  const comment = /#\s*([^\n]{1,14})/.exec(text);
+  if (!block || !quantity || !comment) throw new Error('the text needs a block header, a quantity with a simple unit and a comment');
+  return { keyword: block[1], blockName: block[2], number: quantity[1], unit: quantity[2], comment: `# ${comment[1].trim()}` };
+}
