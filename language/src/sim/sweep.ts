@@ -117,3 +117,15 @@ function sweepParam(c: Compiled, m: SweepParamDecl, problems: string[]): SweepSp
   }
   return { kind: 'param', target, unit, values };
 }
+
+/** The sweep runs as pool jobs (start values or params by qualified name, SI). */
+export function sweepJobs(spec: RunSpec): Array<{ label: string; kind: 'sweep'; sweep: { target: string; value: number; unit: string; text: string }; starts?: Array<[string, number]>; params?: Array<[string, number]> }> {
+  return spec.sweeps.flatMap((sw) =>
+    sw.values.map((v) => ({
+      label: `${sw.target} = ${v.text}`,
+      kind: 'sweep' as const,
+      sweep: { target: sw.target, value: v.display, unit: sw.unit.text, text: v.text },
+      ...(sw.kind === 'start' ? { starts: [[sw.target, v.si] as [string, number]] } : { params: [[sw.target, v.si] as [string, number]] }),
+    })),
+  );
+}
