@@ -103,7 +103,7 @@ Exit status: 0 written, 1 the model has errors or the controller cannot be expor
       io.err(`loopwright export: cannot write ${out}: ${(err as NodeJS.ErrnoException).code ?? (err as Error).message}`);
       return EXIT_USAGE;
     }
-    io.out(`wrote ${out}: ${controller} sampled every ${plan.model.period} s by ${plan.model.method}; call ${c.names.init}() once, then ${c.names.step}() every period`);
+    io.out(`wrote ${out}: ${controller} sampled every ${Number(plan.model.period.toPrecision(12))} s by ${plan.model.method}; call ${c.names.init}() once, then ${c.names.step}() every period`);
     return EXIT_OK;
   },
 };
