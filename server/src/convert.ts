@@ -150,6 +150,10 @@ export function toQuickFix(fix: QuickFix, diagnostic: LspDiagnostic, uri: string
   return action;
 }
 
+export function toPrepareRename(span: Span, placeholder: string, lines: LineMap): { range: Range; placeholder: string } {
+  return { range: lines.range(span), placeholder };
+}
+
 // ---------- hover ----------
 
 export interface HoverInfo {

@@ -14,10 +14,12 @@ import {
   TextDocumentSyncKind,
   type CodeAction,
   type InitializeResult,
+  type SemanticTokens,
 } from 'vscode-languageserver/node';
 import { TextDocument } from 'vscode-languageserver-textdocument';
 import { RunRequest, type LoopRunReport, type RunRequestParams } from '../../language/src/protocol';
 import { format } from '../../language/src/format/format';
+import { compileAnalysis } from '../../language/src/model/compile';
 import { quickFixes } from './actions';
 import { completions } from './completion';
 import {
@@ -29,6 +31,7 @@ import {
   toHover,
   toInlayHint,
   toLocation,
+  toPrepareRename,
   toQuickFix,
   toSemanticTokens,
   toTextEdit,
@@ -36,9 +39,9 @@ import {
 } from './convert';
 import { definition, references } from './definition';
 import { collectDiagnostics, PushScheduler } from './diagnostics';
-import { AnalysisStore } from './documents';
+import { AnalysisStore, type DocState } from './documents';
 import { foldingRanges } from './folding';
-import { guard, guardNotification, logError, setLogger } from './guard';
+import { guard, guardNotification, logError, setLogger, yieldToEventLoop } from './guard';
 import { hover } from './hover';
 import { inlayHints } from './inlay';
 import { modelDiagnostics, operatingPointDiagnostics } from './layers';
@@ -130,20 +133,31 @@ const pushes = new PushScheduler((uri) => {
     if (!state) return;
     const front = collectDiagnostics(state);
     void connection.sendDiagnostics({ uri, version: state.version, diagnostics: front.map((d) => toDiagnostic(d, state.lines, uri)) });
-    setImmediate(() => {
-      try {
-        if (store.peek(uri) !== state) return;
-        const all = collectDiagnostics(state, EXTRA_CHECKS);
-        if (all.length === front.length) return;
-        void connection.sendDiagnostics({ uri, version: state.version, diagnostics: all.map((d) => toDiagnostic(d, state.lines, uri)) });
-      } catch (err) {
-        logError('diagnostics (model)', err);
-      }
-    });
+    void laterPhase(uri, state, front.length);
   } catch (err) {
     logError('diagnostics', err);
   }
 });
+
+/** Compiles the loops one at a time, yielding between them; gives up as soon as the document changes. */
+async function laterPhase(uri: string, state: DocState, frontCount: number): Promise<void> {
+  try {
+    const current = () => store.peek(uri) === state;
+    for (const name of state.analysis.symbols.loops.keys()) {
+      await yieldToEventLoop();
+      if (!current()) return;
+      if (state.analysis.diagnostics.some((d) => d.severity === 'error')) break;
+      compileAnalysis(state.analysis, name);
+    }
+    await yieldToEventLoop();
+    if (!current()) return;
+    const all = collectDiagnostics(state, EXTRA_CHECKS);
+    if (all.length === frontCount) return;
+    void connection.sendDiagnostics({ uri, version: state.version, diagnostics: all.map((d) => toDiagnostic(d, state.lines, uri)) });
+  } catch (err) {
+    logError('diagnostics (model)', err);
+  }
+}
 
 documents.onDidOpen((e) => pushes.now(e.document.uri));
 documents.onDidChangeContent((e) => {
@@ -217,7 +231,7 @@ connection.onPrepareRename(
     if (!s) return null;
     const r = prepareRename(s.analysis, s.lines.offset(p.position));
     if (!r.ok) throw new ResponseError(ErrorCodes.InvalidRequest, r.reason);
-    return { range: s.lines.range(r.span), placeholder: r.placeholder };
+    return toPrepareRename(r.span, r.placeholder, s.lines);
   }),
 );
 
@@ -244,8 +258,14 @@ connection.languages.semanticTokens.on(
   guard('semanticTokens', { data: [] }, (p, token) => {
     const s = store.get(p.textDocument.uri);
     if (!s) return { data: [] };
+    // One encoding per version: the editor asks again on every focus and scroll.
+    const cached = s.analysis.cache.get('server:semanticTokens') as SemanticTokens | undefined;
+    if (cached) return cached;
     const toks = semanticTokens(s.analysis, () => token.isCancellationRequested);
-    return toks ? toSemanticTokens(toks, s.lines) : { data: [] };
+    if (!toks) return { data: [] };
+    const encoded = toSemanticTokens(toks, s.lines);
+    s.analysis.cache.set('server:semanticTokens', encoded);
+    return encoded;
   }),
 );
 

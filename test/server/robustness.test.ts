@@ -114,6 +114,28 @@ describe('runs', () => {
   });
 });
 
+describe('transports', () => {
+  it('the same server speaks over node IPC (--node-ipc), as the extension starts it', async () => {
+    const { fork } = await import('node:child_process');
+    const { createMessageConnection, IPCMessageReader, IPCMessageWriter } = await import('vscode-jsonrpc/node');
+    const child = fork(join(ROOT, 'dist', 'server.js'), ['--node-ipc'], { silent: true });
+    const conn = createMessageConnection(new IPCMessageReader(child), new IPCMessageWriter(child));
+    conn.listen();
+    try {
+      const init = await conn.sendRequest<{ capabilities: { hoverProvider?: boolean } }>('initialize', { processId: process.pid, rootUri: null, capabilities: {} });
+      expect(init.capabilities.hoverProvider).toBe(true);
+      const got = new Promise<{ diagnostics: Array<{ code: string }> }>((resolve) => conn.onNotification('textDocument/publishDiagnostics', resolve));
+      await conn.sendNotification('initialized', {});
+      await conn.sendNotification('textDocument/didOpen', { textDocument: { uri: 'file:///ipc.loop', languageId: 'loop', version: 1, text: "plant P {\n  state x [m]\n  x' = y\n}\n" } });
+      expect((await got).diagnostics.map((d) => d.code)).toEqual(['LW201']);
+      await conn.sendRequest('shutdown');
+    } finally {
+      conn.dispose();
+      child.kill();
+    }
+  });
+});
+
 describe('bad input', () => {
   it('malformed JSON-RPC does not stop the server', async () => {
     const { server: s } = await Server.start();
