@@ -53,7 +53,7 @@ describe('the packaged .vsix', () => {
 
   it('holds the key files, none of them empty', () => {
     for (const f of KEY_FILES) {
-      const e = entries.find((x) => x.name.toLowerCase() === f);
+      const e = entries.find((x) => x.name.toLowerCase() === f.toLowerCase());
       expect(e, `${f} is missing from the .vsix`).toBeDefined();
       expect(e!.size, `${f} is empty`).toBeGreaterThan(0);
     }
