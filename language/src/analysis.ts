@@ -10,10 +10,13 @@ import { checkNames } from './check/names';
 import type { SymbolTable } from './check/symbols';
 import type { IToken } from 'chevrotain';
 import { checkUnits, type UnitsResult } from './check/units';
+import { checkOperatingPoints } from './linear/equilibrium';
 
 export interface AnalyzeOptions {
   /** Skip the unit checks (for benchmarks of the front end alone). */
   skipUnits?: boolean;
+  /** Skip the equilibrium checks of operating points (they evaluate the plant equations). */
+  skipOperatingPoints?: boolean;
 }
 
 export interface Analysis {
@@ -46,5 +49,13 @@ export function analyze(text: string, options: AnalyzeOptions = {}): Analysis {
   } catch (err) {
     sink.error('LW101', { start: 0, end: Math.min(1, text.length) }, `internal error while analysing (please report): ${(err as Error).message}`);
   }
-  return { text, ast, symbols, units, diagnostics: sink.items, tokens, cache: new Map(), sink };
+  const analysis: Analysis = { text, ast, symbols, units, diagnostics: sink.items, tokens, cache: new Map(), sink };
+  if (!options.skipUnits && !options.skipOperatingPoints) {
+    try {
+      sink.items.push(...checkOperatingPoints(analysis));
+    } catch (err) {
+      sink.error('LW101', { start: 0, end: Math.min(1, text.length) }, `internal error in the operating-point checks (please report): ${(err as Error).message}`);
+    }
+  }
+  return analysis;
 }

@@ -246,7 +246,16 @@ export class AstBuilder {
         const op: A.UnaryOp = t.image === 'not' ? 'not' : t.image === '+' ? '+' : '-';
         const operand = climb(op === 'not' ? 2 : 6);
         const opSpan = tokSpan(t, span);
-        return { kind: 'unary', span: { start: opSpan.start, end: Math.max(opSpan.end, operand.span.end) }, op, opSpan, operand };
+        const whole = { start: opSpan.start, end: Math.max(opSpan.end, operand.span.end) };
+        // A signed literal is one value: `-10 [degC]` is minus ten degrees Celsius (263.15 K),
+        // not the negation of 283.15 K. Folding the sign here gives every later pass that reading.
+        if ((op === '-' || op === '+') && (operand.kind === 'number' || operand.kind === 'quantity') && !operand.text.startsWith('-') && !operand.text.startsWith('+')) {
+          const value = op === '-' ? -operand.value : operand.value;
+          const text = (op === '-' ? '-' : '') + operand.text;
+          const numberSpan = { start: opSpan.start, end: operand.kind === 'quantity' ? operand.numberSpan.end : operand.span.end };
+          return operand.kind === 'quantity' ? { ...operand, span: whole, value, text, numberSpan } : { ...operand, span: whole, value, text };
+        }
+        return { kind: 'unary', span: whole, op, opSpan, operand };
       }
       const oc = o.children as Children;
       const e = this.expr(nodes(oc, 'primary')[0], nodeSpan(o, span));
