@@ -37,11 +37,21 @@ export interface Hidden {
   runs: string[];
 }
 
+/** A response kept with "Pin": drawn faintly under the live curves of the same loop. */
+export interface Pinned {
+  loop: string;
+  runs: Array<{ label: string; kind: string; t: number[]; signals: Record<string, (number | null)[]> }>;
+}
+
 /** What the page keeps with `setState` so that a reload draws the same picture at once. */
 export interface PlotState {
   report: LoopRunReport;
   zoom: Zoom;
   hidden: Hidden;
+  /** The pinned reference response, if any. */
+  pinned?: Pinned;
+  /** The "Plant params" knobs are open. */
+  showPlant?: boolean;
 }
 
 export type Parsed<T> = { ok: true; value: T } | { ok: false; error: string };
@@ -113,5 +123,27 @@ export function parseState(data: unknown): PlotState | null {
   const zoom: Zoom = isObject(z) && isFiniteNumber(z.min) && isFiniteNumber(z.max) && z.min < z.max ? { min: z.min, max: z.max } : null;
   const h = isObject(data.hidden) ? data.hidden : {};
   const strings = (v: unknown): string[] => (Array.isArray(v) ? v.filter((s): s is string => typeof s === 'string') : []);
-  return { report: r.value, zoom, hidden: { signals: strings(h.signals), runs: strings(h.runs) } };
+  const state: PlotState = { report: r.value, zoom, hidden: { signals: strings(h.signals), runs: strings(h.runs) } };
+  const pinned = parsePinned(data.pinned);
+  if (pinned) state.pinned = pinned;
+  if (data.showPlant === true) state.showPlant = true;
+  return state;
+}
+
+const isSamples = (v: unknown): v is (number | null)[] => Array.isArray(v) && v.every((x) => x === null || isFiniteNumber(x));
+
+/** A saved pin, or null when any part of it is unusable. */
+function parsePinned(v: unknown): Pinned | null {
+  if (!isObject(v) || typeof v.loop !== 'string' || !Array.isArray(v.runs)) return null;
+  const runs: Pinned['runs'] = [];
+  for (const r of v.runs) {
+    if (!isObject(r) || typeof r.label !== 'string' || typeof r.kind !== 'string' || !isSamples(r.t) || !isObject(r.signals)) return null;
+    const signals: Record<string, (number | null)[]> = {};
+    for (const [name, ys] of Object.entries(r.signals)) {
+      if (!isSamples(ys) || ys.length !== r.t.length) return null;
+      signals[name] = ys;
+    }
+    runs.push({ label: r.label, kind: r.kind, t: r.t as number[], signals });
+  }
+  return { loop: v.loop, runs };
 }

@@ -7,8 +7,10 @@ import { reportToCsv } from './csv';
 import { el } from './dom';
 import { connectHost } from './host';
 import { Readout, renderLegend, updateLegend } from './legend';
-import { EMBEDDED_REPORT_ID, parseHostMessage, parseState, type Hidden, type HostToPage, type PlotState, type Zoom } from './messages';
-import { Plots } from './plots';
+import { Knobs } from './knobs';
+import { EMBEDDED_REPORT_ID, parseHostMessage, parseState, type Hidden, type HostToPage, type Pinned, type PlotState, type Zoom } from './messages';
+import { planKey, Plots } from './plots';
+import { PoleMap } from './polemap';
 import { composePng } from './png';
 import { runErrorText, renderResults } from './tables';
 import { readTheme, watchTheme, type Theme } from './theme';
@@ -17,6 +19,7 @@ interface Layout {
   title: HTMLElement;
   status: HTMLElement;
   problem: HTMLElement;
+  stale: HTMLElement;
   alerts: HTMLElement;
   legend: HTMLElement;
   runs: HTMLElement;
@@ -24,10 +27,13 @@ interface Layout {
   panels: HTMLElement;
   empty: HTMLElement;
   side: HTMLElement;
+  knobs: HTMLElement;
+  poles: HTMLElement;
   results: HTMLElement;
   csv: HTMLButtonElement;
   png: HTMLButtonElement;
   reset: HTMLButtonElement;
+  pin: HTMLButtonElement;
 }
 
 function button(text: string, id: string, hint: string): HTMLButtonElement {
@@ -50,12 +56,18 @@ function buildLayout(root: HTMLElement): Layout {
   const reset = button('Reset zoom', 'lw-reset-zoom', 'Show the whole run (or double-click a plot)');
   const csv = button('Export CSV', 'lw-export-csv', 'Every run as comma-separated values');
   const png = button('Export PNG', 'lw-export-png', 'All panels as one image');
-  actions.append(reset, csv, png);
+  const pin = button('Pin', 'lw-pin', 'Keep this response as a faint reference under the next runs');
+  pin.setAttribute('aria-pressed', 'false');
+  actions.append(pin, reset, csv, png);
   bar.append(title, status, actions);
 
   const problem = el('div', 'lw-problem');
   problem.setAttribute('role', 'alert');
   problem.hidden = true;
+  // "Not re-run": the document has an error, the plot below is the last good run.
+  const stale = el('div', 'lw-stale');
+  stale.setAttribute('role', 'status');
+  stale.hidden = true;
   const alerts = el('div', 'lw-alerts');
 
   const body = el('div', 'lw-body');
@@ -70,18 +82,23 @@ function buildLayout(root: HTMLElement): Layout {
   const panels = el('div', 'lw-panels');
   const empty = el('p', 'lw-empty', 'Waiting for a run…');
   plots.append(legend, runs, readout, panels, empty);
-  // Reserved for the tuning side panel (parameter sliders, s-plane pole map): laid out beside
-  // the plots, hidden until it has content.
+  // The tuning side panel (parameter knobs, s-plane pole map): beside the plots, hidden until
+  // the report has params or poles.
   const side = el('aside', 'lw-side');
   side.setAttribute('aria-label', 'Tuning');
   side.hidden = true;
+  const knobs = el('section', 'lw-knobs');
+  knobs.setAttribute('aria-label', 'Parameters');
+  const poles = el('section', 'lw-poles');
+  poles.setAttribute('aria-label', 'Pole map');
+  side.append(knobs, poles);
   body.append(plots, side);
 
   const results = el('section', 'lw-results');
   results.setAttribute('aria-label', 'Run results');
-  app.append(bar, problem, alerts, body, results);
+  app.append(bar, problem, stale, alerts, body, results);
   root.replaceChildren(app);
-  return { title, status, problem, alerts, legend, runs, readout, panels, empty, side, results, csv, png, reset };
+  return { title, status, problem, stale, alerts, legend, runs, readout, panels, empty, side, knobs, poles, results, csv, png, reset, pin };
 }
 
 class App {
@@ -93,9 +110,26 @@ class App {
   private drawCount = 0;
   private buildStart = 0;
   private readonly host = connectHost(() => (this.state?.report.loop || 'loop').replace(/[^\w.-]+/g, '_'));
+  private readonly knobs: Knobs;
+  private readonly poleMap: PoleMap;
+  private legendKey = '';
+  /** The last report shown was of this loop (knobs and pole map keep their state for it). */
+  private shownLoop: string | null = null;
 
   constructor(root: HTMLElement) {
     this.ui = buildLayout(root);
+    this.knobs = new Knobs({
+      box: this.ui.knobs,
+      post: (m) => this.host.post(m),
+      showPlant: false,
+      onShowPlant: (show) => {
+        if (!this.state) return;
+        this.state = { ...this.state, showPlant: show };
+        this.save();
+      },
+    });
+    this.poleMap = new PoleMap(this.ui.poles);
+    this.ui.pin.addEventListener('click', () => this.togglePin());
     this.ui.csv.addEventListener('click', () => this.exportCsv());
     this.ui.png.addEventListener('click', () => this.exportPng());
     this.ui.reset.addEventListener('click', () => this.plots?.applyZoom(null));
@@ -148,9 +182,13 @@ class App {
 
   private handle(m: HostToPage): void {
     switch (m.type) {
-      case 'report':
-        this.show({ report: m.report, zoom: null, hidden: this.state?.hidden ?? { signals: [], runs: [] } });
+      case 'report': {
+        const prev = this.state;
+        this.setStale(null);
+        if (prev && sameLoop(prev.report, m.report)) this.update(m.report);
+        else this.show({ report: m.report, zoom: null, hidden: { signals: [], runs: [] }, ...(prev?.showPlant ? { showPlant: true } : {}) });
         break;
+      }
       case 'theme':
         this.redraw();
         break;
@@ -166,7 +204,16 @@ class App {
     document.body.classList.toggle('lw-running', kind === 'running');
     if (kind === 'idle') s.textContent = '';
     else if (kind === 'running') s.textContent = message ? `Running… ${message}` : 'Running…';
-    else s.textContent = `${line ? `Line ${line}: ` : ''}${message ?? 'The run failed.'}`;
+    else {
+      s.textContent = `${line ? `Line ${line}: ` : ''}${message ?? 'The run failed.'}`;
+      this.setStale(`Not re-run: ${line ? `line ${line}: ` : ''}${message ?? 'the run failed.'}`);
+    }
+  }
+
+  /** The quiet banner over a plot that is no longer current; null clears it. */
+  private setStale(text: string | null): void {
+    this.ui.stale.hidden = text === null;
+    this.ui.stale.textContent = text ?? '';
   }
 
   /** Shows a problem of the page itself (bad message, internal error); null clears it. */
@@ -186,6 +233,63 @@ class App {
     this.save();
   }
 
+  /** A new report of the loop on show: panels take the new data in place when they can. */
+  private update(report: LoopRunReport): void {
+    const st = this.state!;
+    this.state = { ...st, report };
+    if (!this.plots || this.plots.panels.length === 0 || !this.plots.update(report, st.zoom)) {
+      this.render();
+    } else {
+      this.buildStart = performance.now();
+      this.renderChrome(report);
+      this.readout = new Readout(this.ui.readout, this.plots, report.signals);
+      this.readout.update(this.plots.cursorIdx());
+      this.renderSide(report);
+    }
+    this.save();
+  }
+
+  private renderChrome(report: LoopRunReport): void {
+    const st = this.state!;
+    document.title = `Loopwright — ${report.loop}`;
+    this.ui.title.textContent = report.file ? `${report.loop} — ${report.file}` : report.loop;
+    this.renderAlerts(report);
+    // The legend is rebuilt only when its entries change, so a focused entry keeps its focus.
+    const key = `${this.theme.variant}|${planKey(report)}|${report.runs.map((r) => `${r.label}:${r.recovered}`).join(',')}`;
+    if (key !== this.legendKey) {
+      this.legendKey = key;
+      renderLegend({ report, theme: this.theme, hidden: st.hidden, signalsBox: this.ui.legend, runsBox: this.ui.runs, onToggle: (w) => this.toggle(w) });
+    }
+    renderResults(this.ui.results, report);
+  }
+
+  private renderSide(report: LoopRunReport): void {
+    const same = this.shownLoop === loopKey(report);
+    this.shownLoop = loopKey(report);
+    // Knobs need a host that applies edits; the standalone report shows the pole map only.
+    this.knobs.setShowPlant(!!this.state?.showPlant);
+    this.knobs.update(this.host.standalone ? [] : report.params ?? [], same);
+    this.poleMap.update(report.poles, this.theme, same);
+    this.ui.side.hidden = this.knobs.count === 0 && !this.poleMap.any;
+  }
+
+  private togglePin(): void {
+    if (!this.state) return;
+    const { pinned, ...rest } = this.state;
+    const next: Pinned | undefined = pinned ? undefined : pinOf(this.state.report);
+    this.state = next ? { ...rest, pinned: next } : rest;
+    this.syncPin();
+    this.plots?.setPinned(next ?? null);
+    this.save();
+  }
+
+  private syncPin(): void {
+    const on = !!this.state?.pinned;
+    this.ui.pin.textContent = on ? 'Unpin' : 'Pin';
+    this.ui.pin.setAttribute('aria-pressed', String(on));
+    this.ui.pin.title = on ? 'Stop drawing the pinned reference' : 'Keep this response as a faint reference under the next runs';
+  }
+
   private redraw(): void {
     this.theme = readTheme();
     if (this.state) this.render();
@@ -198,16 +302,17 @@ class App {
     this.plots?.destroy();
     this.plots = null;
     this.theme = readTheme();
-    document.title = `Loopwright — ${report.loop}`;
-    this.ui.title.textContent = report.file ? `${report.loop} — ${report.file}` : report.loop;
-    this.renderAlerts(report);
-    renderLegend({ report, theme: this.theme, hidden: st.hidden, signalsBox: this.ui.legend, runsBox: this.ui.runs, onToggle: (w) => this.toggle(w) });
-    renderResults(this.ui.results, report);
+    this.legendKey = '';
+    this.renderChrome(report);
+    // The side panel first: showing it narrows the plots.
+    this.renderSide(report);
+    this.syncPin();
     this.plots = new Plots({
       report,
       theme: this.theme,
       zoom: st.zoom,
       hidden: st.hidden,
+      pinned: st.pinned ?? null,
       container: this.ui.panels,
       width: this.panelWidth(),
       onZoom: (z) => this.zoomed(z),
@@ -222,6 +327,7 @@ class App {
     this.ui.csv.disabled = false;
     this.ui.png.disabled = !any;
     this.ui.reset.disabled = !any;
+    this.ui.pin.disabled = !any;
   }
 
   private renderAlerts(report: LoopRunReport): void {
@@ -281,17 +387,38 @@ class App {
       theme: this.theme,
       zoom: this.state?.zoom ?? null,
       hidden: this.state?.hidden ?? null,
+      pinned: !!this.state?.pinned,
+      stale: this.ui.stale.hidden ? null : this.ui.stale.textContent,
+      cursorIdx: this.plots?.cursorIdx() ?? null,
+      knobs: this.knobs.describe(),
+      poles: this.poleMap.any ? this.poleMap.describe() : null,
       panels: (this.plots?.panels ?? []).map((p) => ({
         group: p.group,
         signals: p.signals.map((s) => s.name),
         series: p.series.map((m) => ({ ...m, dash: [...m.dash] })),
         limits: p.limits.map((l) => ({ ...l })),
         bands: p.bands.map((b) => ({ ...b })),
+        reference: p.reference.map((r) => ({ ...r })),
+        yRange: { min: p.plot.scales.y.min ?? null, max: p.plot.scales.y.max ?? null },
         xRange: { min: p.plot.scales.x.min ?? null, max: p.plot.scales.x.max ?? null },
         bbox: { ...p.plot.bbox },
       })),
     };
   }
+}
+
+/** Reports of one loop of one file: the page keeps zoom, toggles, pin and knobs between them. */
+function loopKey(r: LoopRunReport): string {
+  return JSON.stringify([r.file ?? '', r.loop]);
+}
+
+function sameLoop(a: LoopRunReport, b: LoopRunReport): boolean {
+  return loopKey(a) === loopKey(b);
+}
+
+/** The pinned copy of a report's response (the arrays are shared: reports are never changed). */
+function pinOf(report: LoopRunReport): Pinned {
+  return { loop: loopKey(report), runs: report.runs.map((r) => ({ label: r.label, kind: r.kind, t: r.t, signals: r.signals })) };
 }
 
 function boot(): void {

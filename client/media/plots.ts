@@ -5,7 +5,7 @@
 import uPlot from 'uplot';
 import type { LoopRunReport, RunResult, SignalInfo } from '../../language/src/protocol';
 import { labelWithUnit, fmt } from './format';
-import type { Hidden, Zoom } from './messages';
+import type { Hidden, Pinned, Zoom } from './messages';
 import { DASHES, LINEAR_DASH, sequential, signalStyle, withAlpha } from './palette';
 import type { Theme } from './theme';
 
@@ -46,6 +46,17 @@ export interface BandDrawn {
   colour: string;
 }
 
+/** A pinned reference curve as last drawn. */
+export interface ReferenceDrawn {
+  signal: string;
+  runLabel: string;
+  stroke: string;
+  alpha: number;
+  width: number;
+  /** Samples drawn (inside the x range). */
+  points: number;
+}
+
 export interface Panel {
   group: string;
   root: HTMLElement;
@@ -54,13 +65,19 @@ export interface Panel {
   series: SeriesMeta[];
   limits: LimitDrawn[];
   bands: BandDrawn[];
+  reference: ReferenceDrawn[];
 }
+
+/** Look of the pinned reference: the live colours, faint and thin. */
+export const REFERENCE_ALPHA = 0.35;
+export const REFERENCE_WIDTH = 1;
 
 export interface PlotsOptions {
   report: LoopRunReport;
   theme: Theme;
   zoom: Zoom;
   hidden: Hidden;
+  pinned: Pinned | null;
   container: HTMLElement;
   width: number;
   onZoom(zoom: Zoom): void;
@@ -130,14 +147,30 @@ export function styleOf(report: LoopRunReport, run: number, signal: SignalInfo, 
   return r.kind === 'linear' ? { stroke: base.stroke, dash: [...LINEAR_DASH] } : base;
 }
 
+/** What decides the panels and their series: equal plans can take new data in place. */
+export function planKey(report: LoopRunReport): string {
+  const groups = groupsOf(report).map((g) => [
+    g.group,
+    g.signals.map((s) => [s.name, s.unit, s.limit?.lo ?? null, s.limit?.hi ?? null, report.runs.map((r) => (r.t.length > 0 && r.signals[s.name] ? 1 : 0)).join('')]),
+  ]);
+  const runs = report.runs.map((r) => [r.label, r.kind, r.sweep?.value ?? null]);
+  return JSON.stringify([groups, runs, report.signals.map((s) => s.name)]);
+}
+
 export class Plots {
   readonly panels: Panel[] = [];
-  readonly aligned: Aligned;
+  aligned: Aligned;
+  private report: LoopRunReport;
+  private pinned: Pinned | null;
+  private key: string;
   private syncing = false;
   private drawnQueued = false;
   private fullRange: { min: number; max: number } | null;
 
   constructor(private readonly o: PlotsOptions) {
+    this.report = o.report;
+    this.pinned = o.pinned;
+    this.key = planKey(o.report);
     this.aligned = align(o.report);
     const x = this.aligned.x;
     this.fullRange = x.length > 0 ? { min: x[0], max: x[x.length - 1] } : null;
@@ -147,7 +180,8 @@ export class Plots {
   }
 
   private buildPanel(group: string, signals: SignalInfo[], last: boolean): Panel {
-    const { report, theme, hidden, container } = this.o;
+    const { theme, hidden, container } = this.o;
+    const report = this.report;
     const root = document.createElement('section');
     root.className = 'lw-panel';
     root.dataset.group = group;
@@ -175,7 +209,7 @@ export class Plots {
       });
     }
 
-    const panel: Panel = { group, root, plot: null as unknown as uPlot, signals, series, limits: [], bands: [] };
+    const panel: Panel = { group, root, plot: null as unknown as uPlot, signals, series, limits: [], bands: [], reference: [] };
     const limited = signals.filter((s) => s.limit);
     const axisCommon = { stroke: theme.muted, font: theme.font, grid: { stroke: withAlpha(theme.grid, 0.35), width: 1 }, ticks: { stroke: withAlpha(theme.grid, 0.6), width: 1, size: 4 } };
 
@@ -186,7 +220,7 @@ export class Plots {
       series: uSeries,
       scales: {
         x: { time: false },
-        y: { range: (_u, lo, hi) => this.yRange(lo, hi, limited) },
+        y: { range: (u, lo, hi) => this.yRange(u, panel, lo, hi, limited) },
       },
       axes: [
         last
@@ -208,7 +242,10 @@ export class Plots {
           u.ctx.fillRect(0, 0, u.ctx.canvas.width, u.ctx.canvas.height);
           u.ctx.restore();
         }],
-        drawAxes: [(u) => this.drawBands(u, panel)],
+        drawAxes: [(u) => {
+          this.drawBands(u, panel);
+          this.drawReference(u, panel);
+        }],
         draw: [(u) => {
           this.drawLimits(u, panel);
           this.queueDrawn();
@@ -224,7 +261,12 @@ export class Plots {
   }
 
   /** Data range widened to take in a limit that lies near the data, padded a little. */
-  private yRange(lo: number | null, hi: number | null, limited: SignalInfo[]): uPlot.Range.MinMax {
+  private yRange(u: uPlot, panel: Panel, lo: number | null, hi: number | null, limited: SignalInfo[]): uPlot.Range.MinMax {
+    const ref = this.referenceExtent(u, panel);
+    if (ref) {
+      lo = lo === null || !Number.isFinite(lo) ? ref[0] : Math.min(lo, ref[0]);
+      hi = hi === null || !Number.isFinite(hi) ? ref[1] : Math.max(hi, ref[1]);
+    }
     if (lo === null || hi === null || !Number.isFinite(lo) || !Number.isFinite(hi)) return [0, 1];
     let a = lo;
     let b = hi;
@@ -240,13 +282,89 @@ export class Plots {
     return uPlot.rangeNum(a, b, 0.08, true);
   }
 
+  /** The pinned curves of a panel that are shown, each with the live series it stands under. */
+  private referenceCurves(panel: Panel): Array<{ meta: SeriesMeta; t: number[]; ys: (number | null)[] }> {
+    const out: Array<{ meta: SeriesMeta; t: number[]; ys: (number | null)[] }> = [];
+    if (!this.pinned) return out;
+    for (const run of this.pinned.runs) {
+      for (const s of panel.signals) {
+        const ys = run.signals[s.name];
+        if (!ys) continue;
+        const meta = panel.series.find((m) => m.signal === s.name && m.runLabel === run.label) ?? panel.series.find((m) => m.signal === s.name && m.runKind === run.kind);
+        if (!meta || !meta.show) continue;
+        out.push({ meta, t: run.t, ys });
+      }
+    }
+    return out;
+  }
+
+  /** y extent of the shown pinned curves inside the current x range, so that none is cut off. */
+  private referenceExtent(u: uPlot, panel: Panel): [number, number] | null {
+    if (!this.pinned) return null;
+    const x0 = u.scales.x.min ?? -Infinity;
+    const x1 = u.scales.x.max ?? Infinity;
+    let lo = Infinity;
+    let hi = -Infinity;
+    for (const c of this.referenceCurves(panel)) {
+      for (let i = 0; i < c.t.length; i++) {
+        const y = c.ys[i];
+        if (y === null || c.t[i] < x0 || c.t[i] > x1) continue;
+        if (y < lo) lo = y;
+        if (y > hi) hi = y;
+      }
+    }
+    return lo <= hi ? [lo, hi] : null;
+  }
+
+  /** The pinned response, under the live curves (drawn before the series). */
+  private drawReference(u: uPlot, panel: Panel): void {
+    panel.reference = [];
+    if (!this.pinned) return;
+    const { left, top, width, height } = u.bbox;
+    const ctx = u.ctx;
+    const px = uPlot.pxRatio;
+    const x0 = u.scales.x.min ?? -Infinity;
+    const x1 = u.scales.x.max ?? Infinity;
+    ctx.save();
+    ctx.beginPath();
+    ctx.rect(left, top, width, height);
+    ctx.clip();
+    ctx.lineWidth = REFERENCE_WIDTH * px;
+    ctx.lineJoin = 'round';
+    for (const c of this.referenceCurves(panel)) {
+      ctx.strokeStyle = withAlpha(c.meta.stroke, REFERENCE_ALPHA);
+      ctx.setLineDash(c.meta.dash.map((d) => d * px));
+      ctx.beginPath();
+      let pen = false;
+      let points = 0;
+      const n = c.t.length;
+      for (let i = 0; i < n; i++) {
+        const y = c.ys[i];
+        // Keep one sample beyond each end of the range so the line reaches the edges.
+        if (y === null || (i + 1 < n && c.t[i + 1] < x0) || (i > 0 && c.t[i - 1] > x1)) {
+          pen = false;
+          continue;
+        }
+        const X = u.valToPos(c.t[i], 'x', true);
+        const Y = u.valToPos(y, 'y', true);
+        if (pen) ctx.lineTo(X, Y);
+        else ctx.moveTo(X, Y);
+        pen = true;
+        points++;
+      }
+      ctx.stroke();
+      panel.reference.push({ signal: c.meta.signal, runLabel: c.meta.runLabel, stroke: c.meta.stroke, alpha: REFERENCE_ALPHA, width: REFERENCE_WIDTH, points });
+    }
+    ctx.restore();
+  }
+
   private visible(panel: Panel, signal: string, run?: number): boolean {
     return panel.series.some((m) => m.signal === signal && m.show && (run === undefined || m.run === run));
   }
 
   private drawBands(u: uPlot, panel: Panel): void {
     panel.bands = [];
-    const { report } = this.o;
+    const report = this.report;
     const { left, top, width, height } = u.bbox;
     const ctx = u.ctx;
     const px = uPlot.pxRatio;
@@ -339,6 +457,47 @@ export class Plots {
     if (!f) return true;
     const tol = (f.max - f.min) * 1e-9;
     return r.min <= f.min + tol && r.max >= f.max - tol;
+  }
+
+  /**
+   * Takes a new report of the same plan (same panels and series) in place: zoom, cursor and
+   * toggles stay. Returns false, changing nothing, when the plan differs (the caller rebuilds).
+   */
+  update(report: LoopRunReport, zoom: Zoom): boolean {
+    const key = planKey(report);
+    if (key !== this.key || this.panels.length === 0) return false;
+    this.report = report;
+    this.aligned = align(report);
+    const x = this.aligned.x;
+    this.fullRange = x.length > 0 ? { min: x[0], max: x[x.length - 1] } : null;
+    this.syncing = true;
+    try {
+      for (const p of this.panels) {
+        const data = [x, ...p.series.map((m) => this.aligned.columns[m.run][m.signal])] as uPlot.AlignedData;
+        p.plot.batch(() => {
+          p.plot.setData(data, true);
+          if (zoom) p.plot.setScale('x', { min: zoom.min, max: zoom.max });
+        });
+      }
+    } finally {
+      this.syncing = false;
+    }
+    return true;
+  }
+
+  /** Sets or clears the pinned reference and redraws. */
+  setPinned(pinned: Pinned | null): void {
+    this.pinned = pinned;
+    for (const p of this.panels) p.plot.redraw();
+  }
+
+  /** Sample index under the cursor (null when the pointer is off the plots). */
+  cursorIdx(): number | null {
+    for (const p of this.panels) {
+      const c = p.plot.cursor;
+      if (c.left !== undefined && c.left >= 0 && c.idx !== undefined && c.idx !== null) return c.idx;
+    }
+    return null;
   }
 
   applyZoom(z: Zoom): void {

@@ -10,6 +10,8 @@ export interface Theme {
   muted: string;
   border: string;
   grid: string;
+  /** Warning colour (errors, right-half-plane poles). */
+  warning: string;
   font: string;
 }
 
@@ -50,6 +52,7 @@ export function readTheme(): Theme {
     muted: normalise(v('--lw-muted'), foreground),
     border: normalise(v('--lw-border'), foreground),
     grid: normalise(v('--lw-grid'), foreground),
+    warning: normalise(v('--lw-error'), '#F48771'),
     font: `11px ${family}`,
   };
 }

@@ -144,6 +144,26 @@ function checkRun(v: unknown, path: string): void {
   for (const k of ['steps', 'rejected', 'evaluations', 'jacobians', 'ms'] as const) num(s[k], `${path}.stats.${k}`);
 }
 
+function checkPole(v: unknown, path: string): void {
+  const p = obj(v, path);
+  for (const k of ['re', 'im', 'damping', 'natural'] as const) num(p[k], `${path}.${k}`);
+  numOrNull(p.timeConstant, `${path}.timeConstant`);
+}
+
+function checkParam(v: unknown, path: string): void {
+  const p = obj(v, path);
+  str(p.name, `${path}.name`);
+  str(p.system, `${path}.system`);
+  oneOf(p.owner, ['plant', 'controller', 'loop'] as const, `${path}.owner`);
+  num(p.value, `${path}.value`);
+  str(p.unit, `${path}.unit`);
+  span(p.span, `${path}.span`);
+  const s = p.span as { start: number; end: number };
+  if (!Number.isInteger(s.start) || !Number.isInteger(s.end) || s.start < 0 || s.end < s.start) throw new Invalid(`${path}.span must be whole offsets with 0 <= start <= end`);
+  const text = str(p.text, `${path}.text`);
+  if (s.end - s.start < text.length) throw new Invalid(`${path}.span is shorter than its text ${JSON.stringify(text)}`);
+}
+
 /** Returns the report itself (not a copy) when it has the declared shape. Never throws. */
 export function validateReport(v: unknown): Result {
   try {
@@ -158,9 +178,11 @@ export function validateReport(v: unknown): Result {
     }
     arr(r.runs, 'runs').forEach((run, i) => checkRun(run, `runs[${i}]`));
     arr(r.warnings, 'warnings').forEach((w, i) => str(w, `warnings[${i}]`));
-    // poles and params are not drawn yet (reserved side panel); only their container type is checked.
-    if (r.poles !== undefined) obj(r.poles, 'poles');
-    if (r.params !== undefined) arr(r.params, 'params');
+    if (r.poles !== undefined) {
+      const p = obj(r.poles, 'poles');
+      for (const set of ['closed', 'open'] as const) arr(p[set], `poles.${set}`).forEach((x, i) => checkPole(x, `poles.${set}[${i}]`));
+    }
+    if (r.params !== undefined) arr(r.params, 'params').forEach((x, i) => checkParam(x, `params[${i}]`));
     return { ok: true, value: v as LoopRunReport };
   } catch (e) {
     if (e instanceof Invalid) return { ok: false, error: e.message };
