@@ -8,5 +8,6 @@ export default defineConfig({
     hookTimeout: 60_000,
     pool: 'forks',
     globalSetup: ['test/global-setup.ts'],
+    reporters: ['default', './test/summary-reporter.ts'],
   },
 });

@@ -105,7 +105,7 @@ function limitDepth(ast: FileAst, sink: DiagnosticSink): void {
     return { kind: 'error', span: e.span };
   };
   for (const b of ast.blocks) {
-    for (const m of b.members as Array<Record<string, unknown>>) {
+    for (const m of b.members as unknown as Array<Record<string, unknown>>) {
       for (const [k, v] of Object.entries(m)) {
         if (isExpr(v)) m[k] = replace(v);
         else if (Array.isArray(v)) {

@@ -1,0 +1,21 @@
+// Prints one plain closing line, `tests: N passed, N failed` (and skipped), after vitest's own
+// summary, so that scripts reading the log do not need to parse vitest's format.
+import type { Reporter, TestModule } from 'vitest/node';
+
+export default class SummaryReporter implements Reporter {
+  onTestRunEnd(modules: ReadonlyArray<TestModule>): void {
+    let passed = 0;
+    let failed = 0;
+    let skipped = 0;
+    for (const m of modules) {
+      for (const t of m.children.allTests()) {
+        const state = t.result().state;
+        if (state === 'passed') passed++;
+        else if (state === 'failed') failed++;
+        else skipped++;
+      }
+      if (m.state() === 'failed' && [...m.children.allTests()].length === 0) failed++;
+    }
+    process.stdout.write(`\ntests: ${passed} passed, ${failed} failed${skipped ? `, ${skipped} skipped` : ''}\n`);
+  }
+}
