@@ -174,6 +174,22 @@ export class Graph {
 
   /** Ids reachable from the roots, ascending (a topological order). */
   reachable(roots: Iterable<number>): number[] {
+    const list = Array.isArray(roots) ? roots : [...roots];
+    if (list.length === 0) return [];
+    if (list.length === 1) {
+      // a node's arguments never change, so its reachable set can be kept
+      const hit = this.single.get(list[0]);
+      if (hit) return hit;
+      const r = this.reachableUncached(list);
+      this.single.set(list[0], r);
+      return r;
+    }
+    return this.reachableUncached(list);
+  }
+
+  private readonly single = new Map<number, number[]>();
+
+  private reachableUncached(roots: number[]): number[] {
     const seen = new Uint8Array(this.nodes.length);
     const stack: number[] = [];
     for (const r of roots) if (!seen[r]) (seen[r] = 1), stack.push(r);

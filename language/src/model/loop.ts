@@ -386,7 +386,15 @@ export function compileLoop(input: LoopCompileInput): CompiledLoop | undefined {
     around.set(inst.name, chosen ?? inst.compiled.points[0]);
   }
   const starts = loop.block.members.filter((x): x is StartDecl => x.kind === 'start' && x.target.length === 2);
-  const constant = (e: Expr, p: Float64Array = params): number => evaluate(g, [lowerLoop(e)], { p, t: 0 })[0];
+  const constNodes = new Map<Expr, number>();
+  const constant = (e: Expr, p: Float64Array = params): number => {
+    let id = constNodes.get(e);
+    if (id === undefined) {
+      id = lowerLoop(e);
+      constNodes.set(e, id);
+    }
+    return evaluate(g, [id], { p, t: 0 })[0];
+  };
   const startFor = (p: Float64Array, overrides?: ReadonlyMap<string, number>): Float64Array => {
     const x = new Float64Array(n);
     for (const inst of insts) {

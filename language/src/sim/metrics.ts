@@ -129,8 +129,8 @@ import type { RunSpec } from './sweep';
 
 export interface ExpectData {
   traced: TracedSignal[];
-  t: number[];
-  y: number[][];
+  t: ArrayLike<number>;
+  y: ArrayLike<number>[];
   iae: Float64Array;
   /** Intervals at each loop limit, by limit index. */
   atLimit: Array<Array<[number, number]>>;

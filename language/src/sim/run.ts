@@ -41,12 +41,37 @@ export interface RunInput {
   x0: Float64Array;
 }
 
-/** Samples of every traced signal: grid values (SI) and the union with step ends for metrics. */
+/** Samples of every traced signal: grid values (SI) and the ends of accepted steps, for metrics. */
 interface Recorder {
   grid: Float64Array; // points × nTr
-  sampT: number[];
-  sampY: number[][];
+  /** Step-end (and post-breakpoint) samples: times and values, row-major nTr per sample; grown by doubling. */
+  stepT: Float64Array;
+  stepY: Float64Array;
+  nStep: number;
   iae: Float64Array;
+}
+
+/** Grid and step-end samples merged in time order, one array per traced signal. */
+function mergedSamples(rec: Recorder, gridT: Float64Array, filled: number, nTr: number): { t: Float64Array; y: Float64Array[] } {
+  const cap = filled + rec.nStep;
+  const t = new Float64Array(cap);
+  const y = Array.from({ length: nTr }, () => new Float64Array(cap));
+  let i = 0, k = 0, n = 0;
+  while (i < filled || k < rec.nStep) {
+    const useGrid = k >= rec.nStep || (i < filled && gridT[i] <= rec.stepT[k]);
+    if (useGrid) {
+      if (k < rec.nStep && gridT[i] === rec.stepT[k]) k++;
+      t[n] = gridT[i];
+      for (let j = 0; j < nTr; j++) y[j][n] = rec.grid[i * nTr + j];
+      i++;
+    } else {
+      t[n] = rec.stepT[k];
+      for (let j = 0; j < nTr; j++) y[j][n] = rec.stepY[k * nTr + j];
+      k++;
+    }
+    n++;
+  }
+  return { t: t.subarray(0, n), y: y.map((a) => a.subarray(0, n)) };
 }
 
 const now = (): number => (typeof performance !== 'undefined' ? performance.now() : Date.now());
@@ -85,7 +110,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   const trBuf = new Float64Array(nTr);
   const trPrev = new Float64Array(nTr);
   const trNode = [new Float64Array(nTr), new Float64Array(nTr), new Float64Array(nTr)];
-  const rec: Recorder = { grid: new Float64Array(points * nTr), sampT: [], sampY: traced.map(() => []), iae: new Float64Array(nTr) };
+  const rec: Recorder = { grid: new Float64Array(points * nTr), stepT: new Float64Array(256), stepY: new Float64Array(256 * nTr), nStep: 0, iae: new Float64Array(nTr) };
   const gridT = new Float64Array(points);
   for (let i = 0; i < points; i++) gridT[i] = i === points - 1 ? tEnd : (tEnd * i) / (points - 1);
   let nextGrid = 0;
@@ -157,11 +182,21 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   };
 
   const recordSample = (t: number, tr: Float64Array) => {
-    rec.sampT.push(t);
-    for (let j = 0; j < nTr; j++) rec.sampY[j].push(tr[j]);
+    if (rec.nStep === rec.stepT.length) {
+      const T2 = new Float64Array(rec.stepT.length * 2), Y2 = new Float64Array(rec.stepY.length * 2);
+      T2.set(rec.stepT);
+      Y2.set(rec.stepY);
+      rec.stepT = T2;
+      rec.stepY = Y2;
+    }
+    const k = rec.nStep++;
+    rec.stepT[k] = t;
+    const Y = rec.stepY;
+    for (let j = 0, o = k * nTr; j < nTr; j++) Y[o + j] = tr[j];
   };
   const writeGrid = (i: number, tr: Float64Array) => {
-    rec.grid.set(tr, i * nTr);
+    const G = rec.grid;
+    for (let j = 0, o = i * nTr; j < nTr; j++) G[o + j] = tr[j];
   };
 
   // recovery: deviation of plant states from the operating point over the last tenth
@@ -196,7 +231,6 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
         ev.traced(tg, xq, trBuf);
       }
       writeGrid(nextGrid, trBuf);
-      if (tg < b) recordSample(tg, trBuf);
       nextGrid++;
     }
     // IAE by 3-point Gauss–Legendre on the dense output; split where a signal changes sign
@@ -336,7 +370,6 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   if (!error) {
     writeGrid(0, trBuf);
     nextGrid = 1;
-    recordSample(0, trBuf);
     trPrev.set(trBuf);
     noteTail(0, x);
   }
@@ -451,7 +484,8 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
 
   const s = integrator.stats;
   const stats: SolverStats = { steps: s.steps, rejected: s.rejected, evaluations: s.evaluations, jacobians: s.jacobians, ms: now() - started };
-  return assemble(c, spec, input, gridT, rec, atLimit, stats, error, { x, maxDev, plantStates, opX, x0: input.x0, atol, complete: !error });
+  const merged = mergedSamples(rec, gridT, nextGrid, nTr);
+  return assemble(c, spec, input, gridT, rec, merged, atLimit, stats, error, { x, maxDev, plantStates, opX, x0: input.x0, atol, complete: !error });
 }
 
 function algError(e: AlgebraicLoopFailure, c: Compiled): RunError {
@@ -526,6 +560,7 @@ function assemble(
   input: RunInput,
   gridT: Float64Array,
   rec: Recorder,
+  merged: { t: Float64Array; y: Float64Array[] },
   atLimit: Array<Array<[number, number]>>,
   stats: SolverStats,
   error: RunError | undefined,
@@ -543,7 +578,7 @@ function assemble(
     const col = new Array<number>(points);
     for (let i = 0; i < points; i++) col[i] = display(rec.grid[i * nTr + j], tr);
     signals[tr.name] = col;
-    const m = rawMetrics({ t: rec.sampT, y: rec.sampY[j] });
+    const m = rawMetrics({ t: merged.t, y: merged.y[j] });
     const sm: SignalMetrics = {
       initial: display(m.initial, tr),
       final: display(m.final, tr),
@@ -571,7 +606,7 @@ function assemble(
       }
     }
   }
-  const expects = evaluateExpects(c, spec, { traced, t: rec.sampT, y: rec.sampY, iae: rec.iae, atLimit, duration, complete: tail.complete });
+  const expects = evaluateExpects(c, spec, { traced, t: merged.t, y: merged.y, iae: rec.iae, atLimit, duration, complete: tail.complete });
   const result: RunResult = {
     label: input.label,
     kind: input.kind,

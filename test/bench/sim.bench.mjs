@@ -1,0 +1,142 @@
+// Simulation speed on the camera boom loop of LANGUAGE.md §1 (8 s, rtol 1e-6, atol 1e-9):
+//  - µs per simulation through the full pipeline (generated code, limit events, 1000-point
+//    grid, metrics, expects) and with a hand-written TypeScript right-hand side on the same
+//    integrator filling the same grid (target ratio ≤ 1.25);
+//  - simulations per second on 1 and 2 worker threads (target ≥ 1.9×);
+//  - scipy's solve_ivp RK45 on the same model when python3 with scipy is present (target: ours
+//    ≥ 60× faster).
+// Run: node test/bench/sim.bench.mjs   (prints a table; not a test)
+import { build } from 'esbuild';
+import { createRequire } from 'node:module';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir, cpus } from 'node:os';
+import { join, dirname } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { spawnSync } from 'node:child_process';
+
+const root = join(dirname(fileURLToPath(import.meta.url)), '..', '..');
+const dir = mkdtempSync(join(tmpdir(), 'loopwright-simbench-'));
+const require = createRequire(import.meta.url);
+const lib = join(dir, 'sim-lib.cjs');
+const workerPath = join(dir, 'pool-worker.js');
+const entry = `
+export { analyze } from './language/src/analysis';
+export { compileAnalysis } from './language/src/model/compile';
+export { runOnce } from './language/src/sim/run';
+export { runSpec } from './language/src/sim/sweep';
+export { createIntegrator } from './language/src/sim/solver';
+export { runPool } from './language/src/sim/pool';
+`;
+await build({ stdin: { contents: entry, resolveDir: root, loader: 'ts' }, outfile: lib, bundle: true, platform: 'node', format: 'cjs', target: 'node20', logLevel: 'warning' });
+await build({ entryPoints: [join(root, 'language/src/sim/pool-worker.ts')], outfile: workerPath, bundle: true, platform: 'node', format: 'cjs', target: 'node20', logLevel: 'warning' });
+const L = require(lib);
+
+const text = readFileSync(join(root, 'samples/boom.loop'), 'utf8');
+const c = L.compileAnalysis(L.analyze(text)).loop;
+const spec = L.runSpec(c);
+const input = { label: 'nonlinear', kind: 'nonlinear', p: c.params, x0: c.start };
+const opts = { points: 1000, tolerance: 1e-6, abstol: 1e-9, method: 'adaptive' };
+
+function timeIt(f, minMs = 1500) {
+  for (let i = 0; i < 200; i++) f();
+  let n = 0;
+  const t0 = performance.now();
+  while (performance.now() - t0 < minMs) {
+    f();
+    n++;
+  }
+  return ((performance.now() - t0) / n) * 1000; // µs
+}
+
+// --- full pipeline
+let steps = 0;
+const usPipeline = timeIt(() => {
+  steps = L.runOnce(c, spec, input, opts).stats.steps;
+});
+
+// --- hand-written right-hand side, same integrator, same grid
+const arm = 0.6, load = 0.9, drag = 0.02, g = 9.80665, I = load * arm * arm;
+const kp = 14, kd = 2.2, wf = 25;
+function f(t, x, dx) {
+  const tilt = x[0], rate = x[1], xf = x[2];
+  const e = -tilt;
+  let drive = kp * e + kd * wf * (e - xf);
+  drive = drive < -4 ? -4 : drive > 4 ? 4 : drive;
+  dx[0] = rate;
+  dx[1] = (g / arm) * Math.sin(tilt) - (drag / I) * rate + drive / I;
+  dx[2] = wf * (e - xf);
+}
+const grid = new Float64Array(1000 * 3);
+const xq = new Float64Array(3);
+const T = 8;
+let handSteps = 0;
+const usHand = timeIt(() => {
+  const integ = L.createIntegrator('adaptive', { n: 3, f }, { rtol: 1e-6, atol: 1e-9 });
+  let k = 1;
+  grid[0] = 0.5;
+  const r = integ.integrate(0, new Float64Array([0.5, 0, 0]), T, (v) => {
+    while (k < 1000 && (T * k) / 999 <= v.t) {
+      v.dense((T * k) / 999, xq);
+      grid[3 * k] = xq[0];
+      grid[3 * k + 1] = xq[1];
+      const e = -xq[0];
+      const d = kp * e + kd * wf * (e - xq[2]);
+      grid[3 * k + 2] = d < -4 ? -4 : d > 4 ? 4 : d;
+      k++;
+    }
+    return 'continue';
+  });
+  handSteps = integ.stats.steps;
+  if (r.status !== 'done') throw new Error(r.failure?.message);
+});
+
+// --- worker threads
+const jobs = Array.from({ length: 400 }, (_, i) => ({ label: `tilt ${i}`, starts: [['Boom.tilt', 0.05 + (0.9 * i) / 399]] }));
+async function rate(threads) {
+  await L.runPool({ text, jobs: jobs.slice(0, 8 * threads), threads, workerPath, run: opts });
+  const t0 = performance.now();
+  const out = await L.runPool({ text, jobs, threads, workerPath, run: opts });
+  const s = (performance.now() - t0) / 1000;
+  if (out.length !== jobs.length) throw new Error('pool lost runs');
+  return jobs.length / s;
+}
+const r1 = await rate(1);
+const r2 = await rate(2);
+
+// --- scipy RK45
+let usScipy = null;
+const py = `
+import math, time, numpy as np
+from scipy.integrate import solve_ivp
+arm, load, drag, g = 0.6, 0.9, 0.02, 9.80665
+I = load*arm**2; kp, kd, wf = 14.0, 2.2, 25.0
+def f(t, x):
+    tilt, rate, xf = x
+    e = -tilt
+    d = min(4.0, max(-4.0, kp*e + kd*wf*(e - xf)))
+    return [rate, (g/arm)*math.sin(tilt) - drag/I*rate + d/I, wf*(e - xf)]
+te = np.linspace(0, 8, 1000)
+solve_ivp(f, (0, 8), [0.5, 0, 0], method='RK45', rtol=1e-6, atol=1e-9, t_eval=te)
+n = 0; t0 = time.perf_counter()
+while time.perf_counter() - t0 < 3.0:
+    solve_ivp(f, (0, 8), [0.5, 0, 0], method='RK45', rtol=1e-6, atol=1e-9, t_eval=te); n += 1
+print((time.perf_counter() - t0)/n*1e6)
+`;
+const pyFile = join(dir, 'rk45.py');
+writeFileSync(pyFile, py);
+const res = spawnSync('python3', [pyFile], { encoding: 'utf8', timeout: 60000 });
+if (res.status === 0) usScipy = Number(res.stdout.trim());
+
+const rows = [
+  ['full pipeline (µs/simulation)', usPipeline.toFixed(1), `${steps} steps`],
+  ['hand-written RHS, same integrator and grid (µs/simulation)', usHand.toFixed(1), `${handSteps} steps`],
+  ['ratio pipeline / hand-written (target ≤ 1.25)', (usPipeline / usHand).toFixed(3), ''],
+  ['simulations/s on 1 worker thread', r1.toFixed(0), ''],
+  ['simulations/s on 2 worker threads', r2.toFixed(0), `${cpus().length} CPUs`],
+  ['speed-up 2 vs 1 thread (target ≥ 1.9)', (r2 / r1).toFixed(2), ''],
+  ['scipy solve_ivp RK45 (µs/simulation)', usScipy === null ? 'n/a' : usScipy.toFixed(0), usScipy === null ? 'python3 with scipy not found' : ''],
+  ['scipy / pipeline (target ≥ 60)', usScipy === null ? 'n/a' : (usScipy / usPipeline).toFixed(1), ''],
+];
+const w0 = Math.max(...rows.map((r) => r[0].length)), w1 = Math.max(...rows.map((r) => r[1].length));
+console.log('Boom loop, 8 s, rtol 1e-6, atol 1e-9, 1000 output points');
+for (const r of rows) console.log(`${r[0].padEnd(w0)}  ${r[1].padStart(w1)}  ${r[2]}`);
