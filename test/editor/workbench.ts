@@ -185,5 +185,6 @@ export async function waitForDrawnCanvas(page: Page, timeout = 90_000): Promise<
 
 /** Visible notification toasts, newest last. */
 export async function notifications(page: Page): Promise<string[]> {
-  return page.locator('.notification-toast .notification-list-item-message').allInnerTexts();
+  const texts = await page.locator('.notifications-toasts .notification-list-item').allInnerTexts();
+  return texts.map((t) => t.replace(/\s+/g, ' ').trim()).filter(Boolean);
 }
