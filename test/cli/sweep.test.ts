@@ -55,7 +55,7 @@ describe('loopwright sweep', () => {
   it('draws a progress bar on a terminal only', async () => {
     const tty = await cli(['sweep', 'arm.loop'], files, true);
     expect(tty.io.stderr.length).toBeGreaterThan(0);
-    expect(tty.io.stderr.at(-1)).toMatch(/^(\x1b\[1A\x1b\[2K)?sweep Balance \[█{30}\] 3\/3 {2}\d+\.\d s {2}done$/);
+    expect(tty.io.stderr.at(-1)).toMatch(/^(\x1b\[1A\x1b\[2K)?sweep Balance \[█{30}\] 3\/3 {2}\d+\.\d s {2}done( on \d+ threads)?$/);
     const bar = new Progress(fakeIO({}, true), 'x', 4, { width: 8, now: () => 0 });
     expect(bar.line(2)).toBe('x [████░░░░] 2/4  0.0 s');
     const quiet = fakeIO({}, false);
@@ -123,4 +123,31 @@ describe('loopwright sweep', () => {
     expect(j.runs.map((x: { recovered: boolean }) => x.recovered)).toEqual([true, true, true]);
     expect(j.runs.every((x: { expects: Array<{ pass: boolean }> }) => x.expects.every((e) => e.pass))).toBe(true);
   });
+});
+
+describe('where the runs happen', () => {
+  it('worker threads and this process give the same runs', async () => {
+    const { analyze } = await import('../../language/src/analysis');
+    const { compileAnalysis } = await import('../../language/src/model/compile');
+    const { runSpec } = await import('../../language/src/sim/sweep');
+    const { executeRuns, sweepJobs } = await import('../../language/src/cli/sweep-runs');
+    const { execFileSync } = await import('node:child_process');
+    execFileSync('node', ['scripts/build.mjs'], { stdio: 'pipe' }); // dist/pool-worker.js
+    const c = compileAnalysis(analyze(ARM)).loop!;
+    const spec = runSpec(c);
+    const jobs = sweepJobs(spec.sweeps);
+    const pooled = executeRuns(ARM, c, spec, { threads: 2, workerPath: 'dist/pool-worker.js' });
+    const here = executeRuns(ARM, c, spec, { mode: 'in-process' });
+    expect(pooled.mode).toBe('threads');
+    expect(here.mode).toBe('in-process');
+    const seen: number[] = [];
+    const a = await pooled.run(jobs, (n) => seen.push(n));
+    const b = await here.run(jobs);
+    expect(seen.at(-1)).toBe(3);
+    expect(a.map((r) => r.label)).toEqual(b.map((r) => r.label));
+    for (let i = 0; i < a.length; i++) {
+      expect(a[i].recovered).toBe(b[i].recovered);
+      expect(a[i].signals['Arm.angle']).toEqual(b[i].signals['Arm.angle']);
+    }
+  }, 60_000);
 });

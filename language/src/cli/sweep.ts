@@ -8,14 +8,14 @@ import { analyze, type Analysis } from '../analysis';
 import { compileAnalysis, type Compiled } from '../model/compile';
 import { displayUnit, type DisplayUnit } from '../model/units';
 import type { RunResult } from '../protocol';
-import { buildReport, plannedRuns, type PlannedRun } from '../sim/run';
+import { buildReport } from '../sim/run';
 import { runSpec, type RunSpec, type SweepSpec } from '../sim/sweep';
 import { parseUnit } from '../units/registry';
 import { dimEq } from '../units/dimension';
 import { diagnosticLine, locate, num, table } from './format';
 import { Progress } from './progress';
 import { writeHtmlReport } from './report';
-import { executeRuns, type RunExecutor } from './sweep-runs';
+import { executeRuns, sweepJobs, type RunExecutor } from './sweep-runs';
 import { readSource } from './source';
 import { EXIT_FAIL, EXIT_OK, EXIT_USAGE, flagString, parseArgs, UsageError, type CliCommand, type CliIO } from './types';
 
@@ -69,7 +69,7 @@ export async function recoveryLimit(
   c: Compiled,
   spec: RunSpec,
   sw: SweepSpec,
-  o: { maxSi?: number; resolutionSi?: number; run: (x0: Float64Array, label: string) => Promise<RunResult>; onRun?: (n: number) => void },
+  o: { maxSi?: number; resolutionSi?: number; run: (startSi: number, label: string) => Promise<RunResult>; onRun?: (n: number) => void },
 ): Promise<LimitSearch> {
   const idx = c.states.findIndex((s) => s.qualified === sw.target);
   const inst = c.instances.find((i) => idx >= i.xOffset && idx < i.xOffset + i.system.states.length);
@@ -81,7 +81,7 @@ export async function recoveryLimit(
   const tried: LimitSearch['tried'] = [];
   let runs = 0;
   const recovers = async (si: number): Promise<boolean> => {
-    const r = await o.run(c.startFor(c.params, new Map([[sw.target, si]])), `${sw.target} = ${withUnit(toDisplay(si, sw.unit), sw.unit)}`);
+    const r = await o.run(si, `${sw.target} = ${withUnit(toDisplay(si, sw.unit), sw.unit)}`);
     runs++;
     o.onRun?.(runs);
     const ok = !r.error && r.recovered;
@@ -252,19 +252,19 @@ errors, 2 usage error or unreadable file.`,
     if (typeof loaded === 'number') return loaded;
     const { c, spec, file, analysis } = loaded;
     const asJson = p.flags.has('json');
-    const exec: RunExecutor = executeRuns(analysis.text, c, spec, { threads });
-    try {
-      if (limit) return await limitCommand(io, loaded, p, exec, asJson);
-      const plan = plannedRuns(c, spec, 'sweep').sweeps;
+    // a bisection is one run after another: it runs here, without starting workers per run
+    const exec: RunExecutor = executeRuns(analysis.text, c, spec, limit ? { mode: 'in-process' } : { threads });
+    if (limit) return limitCommand(io, loaded, p, exec, asJson);
+    {
+      const plan = sweepJobs(spec.sweeps);
       if (!plan.length) {
         io.err(`loopwright sweep: loop '${c.name}' has no sweep member (add 'sweep start SYSTEM.STATE over V1, V2, ...' or 'sweep SYSTEM.PARAM over LO .. HI steps N')`);
         return EXIT_USAGE;
       }
       const bar = new Progress(io, `sweep ${c.name}`, plan.length);
       bar.update(0);
-      let done = 0;
-      const runs = await exec.run(plan, () => bar.update(++done));
-      bar.finish(done, 'done');
+      const runs = await exec.run(plan, (n) => bar.update(n));
+      bar.finish(runs.length, exec.mode === 'threads' ? `done on ${Math.min(exec.threads, plan.length)} threads` : 'done');
       const report = buildReport(c, runs, file);
       const units = new Map(report.signals.map((s) => [s.name, s.unit]));
       const shown = report.signals[0]?.name;
@@ -284,8 +284,6 @@ errors, 2 usage error or unreadable file.`,
       if (html) out.push(`report written to ${html}`);
       io.out(out.join('\n'));
       return failed ? EXIT_FAIL : EXIT_OK;
-    } finally {
-      await exec.close();
     }
   },
 };
@@ -313,11 +311,10 @@ async function limitCommand(io: CliIO, l: Loaded, p: ReturnType<typeof parseArgs
     resolutionSi = r.si;
   }
   const bar = new Progress(io, `limit ${sw.target}`, 0);
-  const base: PlannedRun = { label: '', kind: 'sweep', p: c.params, x0: c.start };
   const res = await recoveryLimit(c, spec, sw, {
     maxSi,
     resolutionSi,
-    run: async (x0, label) => (await exec.run([{ ...base, label, x0 }]))[0],
+    run: async (si, label) => (await exec.run([{ label, kind: 'sweep', starts: [[sw.target, si]] }]))[0],
     onRun: (n) => {
       bar.setTotal(n);
       bar.update(n);
