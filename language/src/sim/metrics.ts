@@ -5,6 +5,15 @@
 // Samples are the union of the output grid and every accepted step's end (so nothing between
 // grid points is missed); crossing times are interpolated linearly between neighbouring samples.
 
+import type { Compiled } from '../model/compile';
+import { signalName } from '../model/compile';
+import type { TracedSignal } from '../model/types';
+import { displayUnit, isPureNumberUnit, toDisplay } from '../model/units';
+import type { ExpectResult } from '../protocol';
+import type { Expr } from '../syntax/ast';
+import { pathText } from '../syntax/ast';
+import type { RunSpec } from './sweep';
+
 /** Samples of one signal in SI, times ascending. */
 export interface Samples {
   t: ArrayLike<number>;
@@ -118,14 +127,6 @@ export const GL3_WEIGHTS = [5 / 18, 8 / 18, 5 / 18] as const;
 
 // ---------- expects ----------
 
-import type { Compiled } from '../model/compile';
-import { signalName } from '../model/compile';
-import type { TracedSignal } from '../model/types';
-import { displayUnit, isPureNumberUnit, toDisplay } from '../model/units';
-import type { ExpectResult } from '../protocol';
-import type { Expr } from '../syntax/ast';
-import { pathText } from '../syntax/ast';
-import type { RunSpec } from './sweep';
 
 export interface ExpectData {
   traced: TracedSignal[];
