@@ -267,6 +267,8 @@ class App {
     const same = this.shownLoop === loopKey(report);
     this.shownLoop = loopKey(report);
     // Knobs need a host that applies edits; the standalone report shows the pole map only.
+    // Shown before drawing, so that the pole map measures its real width.
+    this.ui.side.hidden = (this.host.standalone || !report.params?.length) && !(report.poles && report.poles.closed.length + report.poles.open.length > 0);
     this.knobs.setShowPlant(!!this.state?.showPlant);
     this.knobs.update(this.host.standalone ? [] : report.params ?? [], same);
     this.poleMap.update(report.poles, this.theme, same);

@@ -93,6 +93,14 @@ export class PoleMap {
       this.draw();
     });
     this.key = el('p', 'lw-pole-key');
+    let width = 0;
+    new ResizeObserver(() => {
+      const w = this.box.clientWidth;
+      if (w > 0 && w !== width && this.any) {
+        width = w;
+        this.draw();
+      }
+    }).observe(box);
     box.replaceChildren(heading, this.svg, this.readout, this.key, this.zoomButton, this.note);
     box.hidden = true;
   }
@@ -121,6 +129,7 @@ export class PoleMap {
   private draw(): void {
     const theme = this.theme!;
     const poles = this.all();
+    const hadFocus = this.svg.contains(document.activeElement);
     const width = Math.min(360, Math.max(200, Math.floor(this.box.clientWidth || 276)));
     const height = Math.round(width * 0.92);
     this.svg.setAttribute('width', String(width));
@@ -216,11 +225,13 @@ export class PoleMap {
       const dx = -z;
       const dy = Math.sqrt(1 - z * z);
       for (const s of [1, -1]) plot.append(node('line', { x1: x0, y1: Y(0), x2: X(far * dx), y2: Y(s * far * dy), stroke: guide, 'stroke-width': 1, 'stroke-dasharray': '4 3' }));
-      // Label the upper ray just inside the frame.
-      const tExit = Math.min(view.reMin / dx, view.imMax / dy);
-      if (tExit > 0) {
-        const label = node('text', { x: X(0.8 * tExit * dx), y: Y(0.8 * tExit * dy), fill: theme.muted, 'font-size': 9, 'text-anchor': 'middle' });
-        label.textContent = `ζ ${z}`;
+    }
+    // Labels of the upper rays on one arc inside the frame, so that they spread out.
+    const rLabel = 0.88 * Math.min(-view.reMin, view.imMax);
+    if (rLabel > 0) {
+      for (const z of DAMPING_RAYS) {
+        const label = node('text', { x: X(-rLabel * z), y: Y(rLabel * Math.sqrt(1 - z * z)) - 2, fill: theme.muted, 'font-size': 9, 'text-anchor': 'middle' });
+        label.textContent = z === DAMPING_RAYS[0] ? `ζ ${z}` : String(z);
         plot.append(label);
       }
     }
@@ -271,6 +282,11 @@ export class PoleMap {
     }
     parts.push(layer);
     this.svg.replaceChildren(...parts);
+    // A keyboard user on a marker stays on the same pole through the redraw.
+    if (hadFocus && this.focused) {
+      const again = layer.querySelector<SVGGElement>(`.lw-pole[data-set="${this.focused.set}"][data-index="${this.focused.index}"]`);
+      again?.focus();
+    }
 
     const out = this.markers.filter((m) => !m.inView);
     this.zoomButton.hidden = !zoomable;

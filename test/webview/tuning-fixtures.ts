@@ -24,25 +24,26 @@ loop BoomHold
 end
 `;
 
-/** [name, system, owner, unit, number text, literal as written] */
-const KNOBS: Array<[string, string, ParamKnob['owner'], string, string, string]> = [
-  ['Boom.arm', 'Boom', 'plant', 'm', '0.6', '0.6 [m]'],
-  ['Boom.drag', 'Boom', 'plant', 'N*m*s/rad', '0.02', '0.02 [N*m*s/rad]'],
-  ['Steady.kp', 'Steady', 'controller', 'N*m/rad', '14', '14 [N*m/rad]'],
-  ['Steady.kd', 'Steady', 'controller', 'N*m*s/rad', '2.2', '2.2 [N*m*s/rad]'],
-  ['Steady.bias', 'Steady', 'controller', '', '0', '0\n'],
-  ['BoomHold.ref', 'BoomHold', 'loop', 'rad', '-0.35', '-0.35 [rad]'],
+/** [name, system, owner, unit] */
+const KNOBS: Array<[string, string, ParamKnob['owner'], string]> = [
+  ['Boom.arm', 'Boom', 'plant', 'm'],
+  ['Boom.drag', 'Boom', 'plant', 'N*m*s/rad'],
+  ['Steady.kp', 'Steady', 'controller', 'N*m/rad'],
+  ['Steady.kd', 'Steady', 'controller', 'N*m*s/rad'],
+  ['Steady.bias', 'Steady', 'controller', ''],
+  ['BoomHold.ref', 'BoomHold', 'loop', 'rad'],
 ];
 
-/** Knobs with spans into `doc` (found by their literal text, in order). */
+/** Knobs read from `doc` as a server would: the literal after `param <name> = `, to the line end. */
 export function knobsOf(doc: string = DOCUMENT): ParamKnob[] {
-  let from = 0;
-  return KNOBS.map(([name, system, owner, unit, text, literal]) => {
-    const start = doc.indexOf(literal, from);
-    if (start < 0) throw new Error(`no ${literal} in the document`);
-    const written = literal.replace(/\n$/, '');
-    from = start + written.length;
-    return { name, system, owner, value: Number(text), unit, span: { start, end: start + written.length }, text };
+  return KNOBS.map(([name, system, owner, unit]) => {
+    const header = new RegExp(`^(system|controller|loop) ${system}$`, 'm').exec(doc);
+    if (!header) throw new Error(`no ${system} in the document`);
+    const line = new RegExp(`^  param ${name.split('.')[1]} *= (.*)$`, 'm').exec(doc.slice(header.index));
+    if (!line) throw new Error(`no ${name} in the document`);
+    const start = header.index + line.index + line[0].length - line[1].length;
+    const text = line[1].split(' ')[0];
+    return { name, system, owner, value: Number(text), unit, span: { start, end: start + line[1].length }, text };
   });
 }
 
