@@ -31,12 +31,16 @@ function spanOf(x: CstNode | IToken | undefined, fallback: Span): Span {
   return isToken(x) ? tokSpan(x, fallback) : nodeSpan(x, fallback);
 }
 
+const NONE: never[] = [];
+
+// Chevrotain keys children by token type or label, and a key never mixes tokens with nodes, so
+// the arrays can be returned as they are (no copies: this runs for every node of the tree).
 function tokens(c: Children, key: string): IToken[] {
-  return ((c[key] ?? []) as IToken[]).filter((t) => isToken(t));
+  return (c[key] as IToken[] | undefined) ?? NONE;
 }
 
 function nodes(c: Children, key: string): CstNode[] {
-  return ((c[key] ?? []) as CstNode[]).filter((n) => !isToken(n));
+  return (c[key] as CstNode[] | undefined) ?? NONE;
 }
 
 /** Builds the AST for one parse. `end` is the document length (for spans of recovered nodes). */
@@ -86,7 +90,11 @@ export class AstBuilder {
   }
 
   private member(n: CstNode): A.SystemMember | A.LoopMember | undefined {
-    const inner = Object.values(n.children as Children).flat()[0];
+    let inner: CstNode | IToken | undefined;
+    for (const k in n.children) {
+      inner = (n.children as Children)[k][0];
+      break;
+    }
     if (!inner || isToken(inner)) return undefined;
     const c = inner.children as Children;
     const span = nodeSpan(inner, nodeSpan(n, { start: 0, end: 0 }));
