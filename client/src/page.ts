@@ -64,9 +64,17 @@ function checkNonce(nonce: string): string {
 }
 
 /** A CSP source list must not smuggle in another directive or quote. */
+/**
+ * The webview's CSP source as the host gives it: one or more space-separated sources, each a
+ * host or scheme source (`https://*.vscode-cdn.net`, `vscode-resource:`) or the quoted keyword
+ * `'self'` (code-server gives `'self' https://*.vscode-cdn.net`). Anything that could end the
+ * directive or smuggle another one (`;`, `,`, other quotes, line breaks) is refused.
+ */
 function checkSource(src: string): string {
-  if (/[;'"\r\n,]/.test(src) || src.trim() === '') throw new Error(`not a CSP source: ${JSON.stringify(src)}`);
-  return src.trim();
+  const parts = src.trim().split(/\s+/).filter(Boolean);
+  const ok = parts.length > 0 && parts.every((p) => p === "'self'" || /^[A-Za-z0-9+.\-]+:(\/\/[^\s;,'"]*)?$|^[^\s;,'":]+(\.[^\s;,'"]+)*(:\d+)?$|^(https?|wss?):\/\/[^\s;,'"]+$/.test(p));
+  if (!ok || /[;,\r\n"]/.test(src)) throw new Error(`not a CSP source: ${JSON.stringify(src)}`);
+  return parts.join(' ');
 }
 
 export function plotPageCsp(nonce: string, cspSource: string): string {
