@@ -48,6 +48,8 @@ import { modelDiagnostics, operatingPointDiagnostics } from './layers';
 import { codeLenses } from './lens';
 import { prepareRename, rename } from './rename';
 import { runInWorker } from './runs';
+import { LiveRuns } from './live';
+import { LiveReportNotification, LiveStatusNotification, WatchNotification } from './live-protocol';
 import { LEGEND, semanticTokens } from './semantic';
 import { Settings } from './settings';
 import { outline } from './symbols';
@@ -107,6 +109,7 @@ connection.onDidChangeConfiguration(
     const s = (p?.settings as { loopwright?: unknown } | undefined)?.loopwright;
     if (s) settings.update(s);
     else if (canPullConfiguration) void pullConfiguration();
+    if (!settings.liveEnabled()) live.stopAll();
   }),
 );
 
@@ -116,6 +119,7 @@ connection.onNotification(
     const next = p?.trusted !== false;
     if (next !== trusted) {
       trusted = next;
+      if (!trusted) live.stopAll();
       void connection.sendRequest('workspace/codeLens/refresh').catch(() => undefined);
     }
   }),
@@ -159,14 +163,34 @@ async function laterPhase(uri: string, state: DocState, frontCount: number): Pro
   }
 }
 
+// ---------- live runs ----------
+
+const live = new LiveRuns({
+  state: (uri) => store.get(uri),
+  version: (uri) => documents.get(uri)?.version,
+  enabled: () => trusted && settings.liveEnabled(),
+  job: (text, loop, mode) => ({ text, loop, mode, budgetMs: settings.timeBudgetMs(), settings: settings.runDefaults() }),
+  run: (job, token) => runInWorker(job, settings.timeBudgetMs(), token, { report: () => undefined }),
+  report: (p) => void connection.sendNotification(LiveReportNotification, p).catch(() => undefined),
+  status: (p) => void connection.sendNotification(LiveStatusNotification, p).catch(() => undefined),
+  log: logError,
+});
+
+connection.onNotification(
+  WatchNotification,
+  guardNotification(WatchNotification, (p: unknown) => live.watch(p)),
+);
+
 documents.onDidOpen((e) => pushes.now(e.document.uri));
 documents.onDidChangeContent((e) => {
   // onDidChangeContent also fires on open; the open handler has pushed already.
   if (e.document.version === store.peek(e.document.uri)?.version) return;
   pushes.later(e.document.uri);
+  live.changed(e.document.uri);
 });
 documents.onDidClose((e) => {
   pushes.cancel(e.document.uri);
+  live.closed(e.document.uri);
   store.forget(e.document.uri);
   void connection.sendDiagnostics({ uri: e.document.uri, diagnostics: [] });
 });

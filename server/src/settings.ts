@@ -9,12 +9,15 @@ interface Raw {
   method?: unknown;
   run?: { timeBudgetMs?: unknown };
   'run.timeBudgetMs'?: unknown;
+  live?: { enabled?: unknown };
+  'live.enabled'?: unknown;
 }
 
 export class Settings {
   private tolerance?: number;
   private method?: string;
   private budget = DEFAULT_TIME_BUDGET_MS;
+  private live = true;
 
   update(raw: unknown): void {
     if (!raw || typeof raw !== 'object') return;
@@ -23,6 +26,13 @@ export class Settings {
     if (typeof r.method === 'string') this.method = r.method;
     const b = r.run?.timeBudgetMs ?? r['run.timeBudgetMs'];
     if (typeof b === 'number' && Number.isFinite(b)) this.budget = Math.max(MIN_TIME_BUDGET_MS, Math.floor(b));
+    const l = r.live?.enabled ?? r['live.enabled'];
+    if (typeof l === 'boolean') this.live = l;
+  }
+
+  /** `loopwright.live.enabled`: re-run watched loops as their documents are edited. */
+  liveEnabled(): boolean {
+    return this.live;
   }
 
   timeBudgetMs(): number {

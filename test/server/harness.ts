@@ -59,6 +59,8 @@ export class Server {
   private readonly diags = new Map<string, PublishDiagnosticsParams[]>();
   private readonly waiters: Array<{ uri: string; version?: number; resolve: (p: PublishDiagnosticsParams) => void }> = [];
   private readonly versions = new Map<string, number>();
+  private readonly notes = new Map<string, unknown[]>();
+  private readonly noteWaiters = new Set<() => void>();
   exited: number | null = null;
 
   private constructor() {
@@ -82,7 +84,12 @@ export class Server {
     this.conn.onRequest('workspace/configuration', (p: { items: unknown[] }) => p.items.map(() => null));
     this.conn.onRequest('workspace/codeLens/refresh', () => null);
     this.conn.onRequest('window/workDoneProgress/create', () => null);
-    this.conn.onNotification(() => undefined);
+    this.conn.onNotification((method: string, params: unknown) => {
+      const list = this.notes.get(method) ?? [];
+      list.push(params);
+      this.notes.set(method, list);
+      for (const w of [...this.noteWaiters]) w();
+    });
     this.conn.listen();
   }
 
@@ -148,6 +155,36 @@ export class Server {
   diagnosticsOf(uri: string): Diagnostic[] {
     const list = this.diags.get(uri);
     return list?.[list.length - 1]?.diagnostics ?? [];
+  }
+
+  /** Every notification of `method` received so far (other than diagnostics), oldest first. */
+  notifications<P>(method: string): P[] {
+    return [...((this.notes.get(method) ?? []) as P[])];
+  }
+
+  /** Resolves with the first notification of `method` (received or coming) that satisfies `pred`. */
+  notificationWhere<P>(method: string, pred: (p: P) => boolean, timeoutMs = 20_000): Promise<P> {
+    return new Promise((resolve, reject) => {
+      const look = () => {
+        const hit = (this.notes.get(method) as P[] | undefined)?.find(pred);
+        if (!hit) return false;
+        clearTimeout(timer);
+        this.noteWaiters.delete(check);
+        resolve(hit);
+        return true;
+      };
+      const check = () => void look();
+      const timer = setTimeout(() => {
+        this.noteWaiters.delete(check);
+        reject(new Error(`no matching ${method} within ${timeoutMs} ms`));
+      }, timeoutMs);
+      if (!look()) this.noteWaiters.add(check);
+    });
+  }
+
+  /** The version the next change() will give the document. */
+  versionOf(uri: string): number | undefined {
+    return this.versions.get(uri);
   }
 
   request<R>(method: string, params: unknown): Promise<R> {
