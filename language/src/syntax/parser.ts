@@ -5,7 +5,7 @@
 // line break with a binary operator at the start of the next line (outside parentheses and
 // brackets). `x' = a` followed by a line `-b -> Sys.u` is therefore two members, as written.
 
-import { CstParser, EOF, type IToken, type TokenType, type IParserErrorMessageProvider, defaultParserErrorProvider } from 'chevrotain';
+import { CstParser, EOF, type IOrAlt, type IToken, type TokenType, type IParserErrorMessageProvider, defaultParserErrorProvider } from 'chevrotain';
 import * as T from './tokens';
 
 const Kw = T.Kw;
@@ -91,6 +91,17 @@ export function layoutOf(tokens: IToken[], text: string): TokenLayout {
 
 export class LoopParser extends CstParser {
   private layout: TokenLayout = { breakBefore: new Uint8Array(0), nested: new Uint8Array(0) };
+  // Alternatives of each OR, built once: a literal array in a rule body would be allocated (with
+  // one object and one closure per alternative) on every call of the rule.
+  private blockKeywordAlts?: IOrAlt<unknown>[];
+  private descriptionAlts?: IOrAlt<unknown>[];
+  private memberAlts?: IOrAlt<unknown>[];
+  private sweepAlts?: IOrAlt<unknown>[];
+  private operatorAlts?: IOrAlt<unknown>[];
+  private prefixAlts?: IOrAlt<unknown>[];
+  private primaryAlts?: IOrAlt<unknown>[];
+  private nameTailAlts?: IOrAlt<unknown>[];
+  private continuation?: { GATE: () => boolean; DEF: () => void };
 
   constructor() {
     super(T.allTokens, { recoveryEnabled: true, maxLookahead: 4, errorMessageProvider: messages, nodeLocationTracking: 'onlyOffset' });
@@ -120,9 +131,9 @@ export class LoopParser extends CstParser {
   });
 
   public block = this.RULE('block', () => {
-    this.OR([{ ALT: () => this.CONSUME(Kw.plant) }, { ALT: () => this.CONSUME(Kw.controller) }, { ALT: () => this.CONSUME(Kw.loop) }]);
+    this.OR((this.blockKeywordAlts ??= [{ ALT: () => this.CONSUME(Kw.plant) }, { ALT: () => this.CONSUME(Kw.controller) }, { ALT: () => this.CONSUME(Kw.loop) }]));
     this.CONSUME(T.Ident, { LABEL: 'name' });
-    this.OPTION(() => this.OR2([{ ALT: () => this.CONSUME(T.StringLit, { LABEL: 'description' }) }, { ALT: () => this.CONSUME(T.UnterminatedString, { LABEL: 'description' }) }]));
+    this.OPTION(() => this.OR2((this.descriptionAlts ??= [{ ALT: () => this.CONSUME(T.StringLit, { LABEL: 'description' }) }, { ALT: () => this.CONSUME(T.UnterminatedString, { LABEL: 'description' }) }])));
     this.CONSUME(T.LCurly);
     this.MANY(() => this.SUBRULE(this.member));
     this.CONSUME(T.RCurly);
@@ -131,7 +142,7 @@ export class LoopParser extends CstParser {
   public member = this.RULE('member', () => {
     this.OR({
       IGNORE_AMBIGUITIES: true,
-      DEF: [
+      DEF: (this.memberAlts ??= [
         { ALT: () => this.SUBRULE(this.paramMember) },
         { ALT: () => this.SUBRULE(this.letMember) },
         { ALT: () => this.SUBRULE(this.stateMember) },
@@ -161,7 +172,7 @@ export class LoopParser extends CstParser {
           ALT: () => this.SUBRULE(this.transferMember),
         },
         { ALT: () => this.SUBRULE(this.arrowMember) },
-      ],
+      ]),
     });
   });
 
@@ -289,7 +300,7 @@ export class LoopParser extends CstParser {
 
   private sweepMember = this.RULE('sweepMember', () => {
     this.CONSUME(Kw.sweep);
-    this.OR([
+    this.OR((this.sweepAlts ??= [
       {
         ALT: () => {
           this.CONSUME(Kw.start);
@@ -313,7 +324,7 @@ export class LoopParser extends CstParser {
           this.SUBRULE5(this.expression, { LABEL: 'steps' });
         },
       },
-    ]);
+    ]));
   });
 
   private showMember = this.RULE('showMember', () => {
@@ -386,10 +397,10 @@ export class LoopParser extends CstParser {
 
   public expression = this.RULE('expression', () => {
     this.SUBRULE(this.operand, { LABEL: 'operands' });
-    this.MANY({
+    this.MANY((this.continuation ??= {
       GATE: () => this.continues(),
       DEF: () => {
-        this.OR([
+        this.OR((this.operatorAlts ??= [
           { ALT: () => this.CONSUME(Kw.or, { LABEL: 'ops' }) },
           { ALT: () => this.CONSUME(Kw.and, { LABEL: 'ops' }) },
           { ALT: () => this.CONSUME(T.LessEq, { LABEL: 'ops' }) },
@@ -403,26 +414,28 @@ export class LoopParser extends CstParser {
           { ALT: () => this.CONSUME(T.Star, { LABEL: 'ops' }) },
           { ALT: () => this.CONSUME(T.Slash, { LABEL: 'ops' }) },
           { ALT: () => this.CONSUME(T.Caret, { LABEL: 'ops' }) },
-        ]);
+        ]));
         this.SUBRULE2(this.operand, { LABEL: 'operands' });
       },
-    });
+    }));
   });
 
   /** Prefix operators (`-`, `+`, `not`) then a primary. */
   private operand = this.RULE('operand', () => {
-    this.MANY(() =>
-      this.OR([
-        { ALT: () => this.CONSUME(T.Minus, { LABEL: 'prefix' }) },
-        { ALT: () => this.CONSUME(T.Plus, { LABEL: 'prefix' }) },
-        { ALT: () => this.CONSUME(Kw.not, { LABEL: 'prefix' }) },
-      ]),
-    );
+    this.MANY(this.prefix);
     this.SUBRULE(this.primary);
   });
 
+  private prefix = (): void => {
+    this.OR((this.prefixAlts ??= [
+      { ALT: () => this.CONSUME(T.Minus, { LABEL: 'prefix' }) },
+      { ALT: () => this.CONSUME(T.Plus, { LABEL: 'prefix' }) },
+      { ALT: () => this.CONSUME(Kw.not, { LABEL: 'prefix' }) },
+    ]));
+  };
+
   private primary = this.RULE('primary', () => {
-    this.OR([
+    this.OR((this.primaryAlts ??= [
       {
         ALT: () => {
           this.CONSUME(T.NumberLit);
@@ -439,12 +452,12 @@ export class LoopParser extends CstParser {
       },
       { ALT: () => this.SUBRULE(this.listExpr) },
       { ALT: () => this.SUBRULE(this.ifExpr) },
-    ]);
+    ]));
   });
 
   private nameExpr = this.RULE('nameExpr', () => {
     this.CONSUME(T.Ident);
-    this.OR([
+    this.OR((this.nameTailAlts ??= [
       {
         ALT: () => {
           this.CONSUME(T.LParen);
@@ -460,7 +473,7 @@ export class LoopParser extends CstParser {
             this.CONSUME2(T.Ident, { LABEL: 'parts' });
           }),
       },
-    ]);
+    ]));
   });
 
   private listExpr = this.RULE('listExpr', () => {
