@@ -6,7 +6,8 @@ import type { LoopRunReport } from '../../language/src/protocol';
 import { MEDIA_FILES, reportPageHtml } from './page';
 import { registerCommands, exportCsvText, type CommandServices } from './commands';
 import { ServerConnection } from './language-client';
-import { watchLiveEdits } from './live';
+import { KnobEditor } from './knob-edits';
+import { watchLiveRuns } from './live';
 import { ReportPanels, VIEW_TYPE, type PanelHost, type ReportPanel } from './panel';
 import { fileStem, pngBytes, saveFile } from './save';
 import { isTrusted, onTrustGranted, TrustNotification, requireTrust } from './trust';
@@ -14,6 +15,7 @@ import { isTrusted, onTrustGranted, TrustNotification, requireTrust } from './tr
 let server: ServerConnection | undefined;
 
 function panelHost(output: () => vscode.LogOutputChannel): PanelHost {
+  const knobs = new KnobEditor((m) => output().info(m));
   return {
     exportCsv: (panel: ReportPanel, csv: string) => exportCsvText(panel.id, csv),
     async exportPng(panel: ReportPanel, dataUrl: string) {
@@ -30,11 +32,7 @@ function panelHost(output: () => vscode.LogOutputChannel): PanelHost {
         await requireTrust('live tuning');
         return;
       }
-      const document = await vscode.workspace.openTextDocument(panel.documentUri);
-      const range = new vscode.Range(document.positionAt(edit.span.start), document.positionAt(edit.span.end));
-      const change = new vscode.WorkspaceEdit();
-      change.replace(document.uri, range, edit.newText);
-      if (!(await vscode.workspace.applyEdit(change))) throw new Error(`could not change ${vscode.workspace.asRelativePath(document.uri)}`);
+      await knobs.apply(panel, edit);
     },
     log: (message: string) => output().warn(message),
   };
@@ -57,7 +55,7 @@ export async function activate(context: vscode.ExtensionContext): Promise<void> 
     panels,
     ...registerCommands(services),
     vscode.window.registerWebviewPanelSerializer(VIEW_TYPE, panels),
-    watchLiveEdits(services),
+    watchLiveRuns(services),
     onTrustGranted((params) => void connection.notify(TrustNotification, params)),
     vscode.window.onDidChangeActiveColorTheme(() => panels.themeChanged()),
   );

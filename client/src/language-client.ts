@@ -57,10 +57,16 @@ class RestartLimiter implements ErrorHandler {
   }
 }
 
+type NotificationHandler = (params: unknown) => void;
+
 export class ServerConnection implements vscode.Disposable {
   private client: LanguageClient | undefined;
   private starting: Promise<LanguageClient | undefined> | undefined;
   readonly output: vscode.LogOutputChannel;
+  private readonly handlers: Array<[string, NotificationHandler]> = [];
+  private readonly runningEmitter = new vscode.EventEmitter<void>();
+  /** The server is (again) running: a fresh server knows nothing of what the client told the old one. */
+  readonly onDidStart = this.runningEmitter.event;
 
   constructor(private readonly context: vscode.ExtensionContext) {
     this.output = vscode.window.createOutputChannel('Loopwright', { log: true });
@@ -110,6 +116,10 @@ export class ServerConnection implements vscode.Disposable {
     };
     const client = new LanguageClient('loopwright', 'Loopwright', serverOptions, clientOptions);
     this.client = client;
+    for (const [method, handler] of this.handlers) client.onNotification(method, handler);
+    client.onDidChangeState((e) => {
+      if (e.newState === State.Running && this.client === client) this.runningEmitter.fire();
+    });
     try {
       await client.start();
       return client;
@@ -117,6 +127,25 @@ export class ServerConnection implements vscode.Disposable {
       this.output.error(`The Loopwright server did not start: ${error instanceof Error ? error.message : String(error)}`);
       return undefined;
     }
+  }
+
+  /** Handles a notification from the server, on this client and on any later one. */
+  handle(method: string, handler: NotificationHandler): vscode.Disposable {
+    const guarded: NotificationHandler = (params) => {
+      try {
+        handler(params);
+      } catch (error) {
+        this.output.error(`Handling ${method} failed: ${error instanceof Error ? error.message : String(error)}`);
+      }
+    };
+    const entry: [string, NotificationHandler] = [method, guarded];
+    this.handlers.push(entry);
+    const sub = this.client?.onNotification(method, guarded);
+    return new vscode.Disposable(() => {
+      const i = this.handlers.indexOf(entry);
+      if (i >= 0) this.handlers.splice(i, 1);
+      sub?.dispose();
+    });
   }
 
   /** Sends a notification if the server runs; a server that is down misses nothing it needs later. */
@@ -134,6 +163,7 @@ export class ServerConnection implements vscode.Disposable {
     const client = this.client;
     this.client = undefined;
     if (client) await client.dispose(2000).catch(() => undefined);
+    this.runningEmitter.dispose();
     this.output.dispose();
   }
 }

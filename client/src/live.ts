@@ -1,50 +1,56 @@
-// Live runs: while `loopwright.live.enabled` is on, an edit to a document re-runs the loops whose
-// plot panels are open, after a short pause in typing. A newer edit cancels the run in flight.
+// Live runs, client side. The server owns them (server/src/live.ts): the client tells it which
+// loops have open plot panels (`loopwright/watch`, again after a server restart) and forwards what
+// it pushes to the panels: `loopwright/liveReport` updates the panel in place, `loopwright/liveStatus`
+// shows the "Not re-run" banner over the last good plot. The setting `loopwright.live.enabled`
+// reaches the server with the other settings; reports that arrive after it was turned off are
+// dropped here too.
 import * as vscode from 'vscode';
-import { runLoop, type CommandServices } from './commands';
-import type { ReportPanel } from './panel';
+import { LiveReportNotification, LiveStatusNotification, WatchNotification, type WatchParams } from '../../server/src/live-protocol';
+import type { CommandServices } from './commands';
+import type { PanelIdentity } from './panel';
+import { parseLiveReport, parseLiveStatus } from './tuning';
 
-const PAUSE_MS = 700;
+function liveEnabled(uri: string): boolean {
+  try {
+    return vscode.workspace.getConfiguration('loopwright', vscode.Uri.parse(uri)).get<boolean>('live.enabled', true);
+  } catch {
+    return true;
+  }
+}
 
-export function watchLiveEdits(services: CommandServices): vscode.Disposable {
-  const timers = new Map<string, ReturnType<typeof setTimeout>>();
-  const inFlight = new Map<string, vscode.CancellationTokenSource>();
+/** A push for a version older than the document's: a newer one is on its way. */
+function outdated(uri: string, version: number): boolean {
+  const doc = vscode.workspace.textDocuments.find((d) => d.uri.toString() === uri);
+  return doc !== undefined && doc.version > version;
+}
 
-  const rerun = async (panel: ReportPanel) => {
-    const key = `${panel.id.uri}#${panel.id.loop}`;
-    inFlight.get(key)?.cancel();
-    const source = new vscode.CancellationTokenSource();
-    inFlight.set(key, source);
-    panel.status('running');
-    let failure: string | undefined;
-    try {
-      const report = await runLoop(services, panel.id, panel.mode, { quiet: true, token: source.token, onFailure: (m) => (failure = m) });
-      if (source.token.isCancellationRequested) return;
-      if (report) panel.show(report, panel.mode);
-      panel.status(failure ? 'error' : 'idle', failure);
-    } finally {
-      if (inFlight.get(key) === source) inFlight.delete(key);
-      source.dispose();
-    }
-  };
+export function watchLiveRuns(services: CommandServices): vscode.Disposable {
+  const { server, panels } = services;
+  const watch = (id: PanelIdentity, open: boolean, mode: WatchParams['mode']) => void server.notify(WatchNotification, { uri: id.uri, loop: id.loop, open, mode } satisfies WatchParams);
 
-  const changes = vscode.workspace.onDidChangeTextDocument((event) => {
-    if (event.document.languageId !== 'loop' || event.contentChanges.length === 0) return;
-    if (!vscode.workspace.isTrusted) return;
-    if (!vscode.workspace.getConfiguration('loopwright', event.document.uri).get<boolean>('live.enabled', true)) return;
-    const uri = event.document.uri.toString();
-    const panels = services.panels.forDocument(uri).filter((p) => p.report);
-    if (panels.length === 0) return;
-    clearTimeout(timers.get(uri));
-    timers.set(uri, setTimeout(() => {
-      timers.delete(uri);
-      for (const panel of panels) void rerun(panel);
-    }, PAUSE_MS));
-  });
-
-  return new vscode.Disposable(() => {
-    changes.dispose();
-    for (const t of timers.values()) clearTimeout(t);
-    for (const s of inFlight.values()) s.cancel();
-  });
+  const subs = [
+    panels.onDidChangeWatch((c) => watch(c.id, c.open, c.mode)),
+    server.onDidStart(() => {
+      for (const p of panels.all()) watch(p.id, true, p.mode);
+    }),
+    server.handle(LiveReportNotification, (raw) => {
+      const p = parseLiveReport(raw);
+      if (!p) {
+        server.output.warn('The server sent a live report that was ignored: it does not have the shape of a report.');
+        return;
+      }
+      const panel = panels.get(p);
+      if (!panel || !liveEnabled(p.uri) || outdated(p.uri, p.version)) return;
+      panel.show(p.report, panel.mode);
+      panel.status('idle');
+    }),
+    server.handle(LiveStatusNotification, (raw) => {
+      const p = parseLiveStatus(raw);
+      if (!p) return;
+      const panel = panels.get(p);
+      if (!panel || !liveEnabled(p.uri) || outdated(p.uri, p.version)) return;
+      panel.status('error', p.message, p.line);
+    }),
+  ];
+  return vscode.Disposable.from(...subs);
 }

@@ -110,9 +110,9 @@ export class ReportPanel implements vscode.Disposable {
     this.panel.reveal(undefined, true);
   }
 
-  /** Tells the page that a run is going on, has finished, or failed. */
-  status(kind: StatusKind, message?: string): void {
-    this.send({ type: 'status', kind, message });
+  /** Tells the page that a run is going on, has finished, or failed (`line`: 1-based, of the first error). */
+  status(kind: StatusKind, message?: string, line?: number): void {
+    this.send({ type: 'status', kind, message, ...(line !== undefined && Number.isInteger(line) && line >= 1 ? { line } : {}) });
   }
 
   /** Redraw with the colours of the new theme. */
@@ -169,10 +169,19 @@ export class ReportPanel implements vscode.Disposable {
   }
 }
 
+/** A panel opened, closed or changed what it shows: the server watches the loops of open panels. */
+export interface WatchChange {
+  id: PanelIdentity;
+  open: boolean;
+  mode: RunMode;
+}
+
 /** All open plot panels, one per loop of a document. */
 export class ReportPanels implements vscode.WebviewPanelSerializer<unknown>, vscode.Disposable {
   private readonly panels = new Map<string, ReportPanel>();
   private readonly mediaRoot: vscode.Uri;
+  private readonly watchEmitter = new vscode.EventEmitter<WatchChange>();
+  readonly onDidChangeWatch = this.watchEmitter.event;
 
   constructor(
     private readonly extensionUri: vscode.Uri,
@@ -189,6 +198,10 @@ export class ReportPanels implements vscode.WebviewPanelSerializer<unknown>, vsc
     return [...this.panels.values()].filter((p) => p.id.uri === uri);
   }
 
+  all(): ReportPanel[] {
+    return [...this.panels.values()];
+  }
+
   /** Opens the loop's panel (or brings back the open one) and shows the report in it. */
   show(id: PanelIdentity, report: LoopRunReport, mode: RunMode): ReportPanel {
     let panel = this.get(id);
@@ -203,7 +216,9 @@ export class ReportPanels implements vscode.WebviewPanelSerializer<unknown>, vsc
       );
       panel = this.adopt(id, webviewPanel);
     }
+    const changed = panel.report === undefined || panel.mode !== mode;
     panel.show(report, mode);
+    if (changed) this.watchEmitter.fire({ id, open: true, mode });
     return panel;
   }
 
@@ -214,7 +229,9 @@ export class ReportPanels implements vscode.WebviewPanelSerializer<unknown>, vsc
     this.panels.get(key)?.dispose();
     this.panels.set(key, panel);
     panel.onDidDispose(() => {
-      if (this.panels.get(key) === panel) this.panels.delete(key);
+      if (this.panels.get(key) !== panel) return;
+      this.panels.delete(key);
+      this.watchEmitter.fire({ id, open: false, mode: panel.mode });
     });
     return panel;
   }
@@ -228,8 +245,10 @@ export class ReportPanels implements vscode.WebviewPanelSerializer<unknown>, vsc
       webviewPanel.dispose();
       return;
     }
-    const panel = this.adopt({ uri, loop: restored.loop }, webviewPanel);
+    const id = { uri, loop: restored.loop };
+    const panel = this.adopt(id, webviewPanel);
     if (restored.report) panel.show(restored.report, 'simulate');
+    this.watchEmitter.fire({ id, open: true, mode: panel.mode });
   }
 
   themeChanged(): void {
@@ -239,5 +258,6 @@ export class ReportPanels implements vscode.WebviewPanelSerializer<unknown>, vsc
   dispose(): void {
     for (const p of [...this.panels.values()]) p.dispose();
     this.panels.clear();
+    this.watchEmitter.dispose();
   }
 }

@@ -1,0 +1,80 @@
+// The parts of live tuning that need no editor: which knob edits may touch the text, how a drag's
+// edits are grouped into one undo step, and the checks on what the server pushes. knob-edits.ts
+// and live.ts apply them through the editor.
+
+import type { Span } from '../../language/src/diagnostics';
+import type { LoopRunReport } from '../../language/src/protocol';
+import type { LiveReportParams, LiveStatusParams } from '../../server/src/live-protocol';
+import { validateReport } from '../media/validate';
+
+/** A param's literal: a number (sign, decimals, exponent), optionally followed by its bracketed unit. */
+const LITERAL = /^[+-]?[ \t]*(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?(?:[ \t]*\[[^[\]\r\n]*\])?$/;
+
+export function isLiteralText(text: string): boolean {
+  return LITERAL.test(text);
+}
+
+/**
+ * Why a knob edit must not be applied to `text`, or undefined when it may. The span must lie in the
+ * text and hold a literal, and the new text must be one: an edit whose span no longer points at
+ * the literal (the text changed under the page) is refused rather than written over other text.
+ */
+export function refuseKnobEdit(text: string, span: Span, newText: string): string | undefined {
+  if (!Number.isInteger(span.start) || !Number.isInteger(span.end) || span.start < 0 || span.end < span.start || span.end > text.length) {
+    return `the knob's place (${span.start}..${span.end}) is outside the document (${text.length} characters)`;
+  }
+  const old = text.slice(span.start, span.end);
+  if (!isLiteralText(old)) return `the text at the knob's place is no longer a number ('${old.slice(0, 40)}'); run the loop again to refresh the knobs`;
+  if (!isLiteralText(newText)) return `the knob sent '${newText.slice(0, 40)}', which is not a number with a unit`;
+  return undefined;
+}
+
+export interface UndoStops {
+  undoStopBefore: boolean;
+  undoStopAfter: boolean;
+}
+
+/**
+ * Undo grouping of knob edits: a drag (final:false … final:true) is one undo step, each keyboard
+ * step (a lone final:true) is its own. The group opens with an undo stop before the first edit
+ * and closes with one after the final edit.
+ */
+export class UndoGroups {
+  private readonly open = new Set<string>();
+
+  /** The stops for the next edit of knob group `key` (one per panel). */
+  next(key: string, final: boolean): UndoStops {
+    const before = !this.open.has(key);
+    if (final) this.open.delete(key);
+    else this.open.add(key);
+    return { undoStopBefore: before, undoStopAfter: final };
+  }
+
+  isOpen(key: string): boolean {
+    return this.open.has(key);
+  }
+
+  /** Ends a group without a final edit (the panel closed mid-drag). */
+  close(key: string): void {
+    this.open.delete(key);
+  }
+}
+
+const isObject = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
+const isVersion = (v: unknown): v is number => Number.isInteger(v);
+
+/** A `loopwright/liveReport` as pushed, or undefined when any part is unusable. */
+export function parseLiveReport(p: unknown): LiveReportParams | undefined {
+  if (!isObject(p) || typeof p.uri !== 'string' || typeof p.loop !== 'string' || !isVersion(p.version)) return undefined;
+  const r = validateReport(p.report);
+  if (!r.ok) return undefined;
+  return { uri: p.uri, loop: p.loop, version: p.version, report: r.value as LoopRunReport };
+}
+
+/** A `loopwright/liveStatus` as pushed, or undefined when any part is unusable. */
+export function parseLiveStatus(p: unknown): LiveStatusParams | undefined {
+  if (!isObject(p) || typeof p.uri !== 'string' || typeof p.loop !== 'string' || !isVersion(p.version)) return undefined;
+  if (p.kind !== 'error' || typeof p.message !== 'string') return undefined;
+  const line = Number.isInteger(p.line) && (p.line as number) >= 1 ? (p.line as number) : undefined;
+  return { uri: p.uri, loop: p.loop, version: p.version, kind: 'error', message: p.message, ...(line ? { line } : {}) };
+}
