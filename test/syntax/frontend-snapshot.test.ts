@@ -1,6 +1,6 @@
 // Pins everything the front end reports for a fixed corpus: the AST (shape and spans), every
 // diagnostic (code, range, message), name resolution and unit results. The corpus is the
-// samples, a generated document, grammar-built documents and mutations of the samples (fixed
+// samples, a generated document (corpus/generated-300.loop), grammar-built documents and mutations of the samples (fixed
 // fast-check seeds). Any change to what analyze() returns shows up as a snapshot difference.
 // The samples are read from copies in corpus/ so that edits to samples/ do not move the pins.
 import fc from 'fast-check';
@@ -11,7 +11,6 @@ import { describe, expect, it } from 'vitest';
 import { analyze } from '../../language/src/analysis';
 import { targetKey } from '../../language/src/check/symbols';
 import type { Expr } from '../../language/src/syntax/ast';
-import { generateDocument } from '../bench/generate.mjs';
 import { grammarDocument, mutated } from '../fuzz/generators';
 
 function sampleTexts(): Array<{ name: string; text: string }> {
@@ -23,7 +22,6 @@ function sampleTexts(): Array<{ name: string; text: string }> {
 
 function corpus(): Array<{ name: string; text: string }> {
   const out = sampleTexts().sort((a, b) => (a.name < b.name ? -1 : 1));
-  out.push({ name: 'generated-300', text: generateDocument(300) });
   fc.sample(grammarDocument, { seed: 4242, numRuns: 60 }).forEach((text, i) => out.push({ name: `grammar-${i}`, text }));
   const samples = sampleTexts().sort((a, b) => (a.name < b.name ? -1 : 1));
   samples.forEach((s, k) => {
