@@ -7,6 +7,7 @@ import { DiagnosticSink, type Diagnostic } from './diagnostics';
 import type { FileAst } from './syntax/ast';
 import { parse } from './syntax/parse';
 import { checkNames } from './check/names';
+import { checkAlgebraicLoops } from './check/wiring';
 import type { SymbolTable } from './check/symbols';
 import type { IToken } from 'chevrotain';
 import { checkUnits, type UnitsResult } from './check/units';
@@ -45,6 +46,7 @@ export function analyze(text: string, options: AnalyzeOptions = {}): Analysis {
     ast = parsed.ast;
     tokens = parsed.tokens;
     symbols = checkNames(ast, sink);
+    checkAlgebraicLoops(symbols, sink);
     if (!options.skipUnits) units = checkUnits(ast, symbols, sink);
   } catch (err) {
     sink.error('LW101', { start: 0, end: Math.min(1, text.length) }, `internal error while analysing (please report): ${(err as Error).message}`);

@@ -5,11 +5,11 @@
 
 import { parentPort, workerData } from 'node:worker_threads';
 import { analyze } from '../../language/src/analysis';
-import { linearizeLoop } from '../../language/src/linear/linearize';
-import { compileAnalysis } from '../../language/src/model/compile';
+import { compileForRun, reportFor } from '../../language/src/runs';
+import { linearRunner } from '../../language/src/linear/linear-run';
 import type { LoopRunReport } from '../../language/src/protocol';
 import type { IntegratorMethod } from '../../language/src/sim/solver';
-import { buildReport, simulate } from '../../language/src/sim/run';
+import { simulate } from '../../language/src/sim/run';
 import type { RunJob, WorkerMessage } from './worker-protocol';
 
 const post = (m: WorkerMessage) => parentPort?.postMessage(m);
@@ -29,23 +29,17 @@ function main(job: RunJob): void {
     return;
   }
   post({ type: 'progress', percentage: 5, message: `compiling ${job.loop}` });
-  const compiled = compileAnalysis(analysis, job.loop);
-  if (!compiled.loop) {
+  const compiled = compileForRun(analysis, job.loop);
+  if (!compiled.compiled) {
     const first = compiled.diagnostics.find((d) => d.severity === 'error');
     post({ type: 'error', message: `${job.loop} cannot run: ${compiled.reason ?? 'the loop could not be compiled'}`, code: first?.code });
     return;
   }
   post({ type: 'progress', percentage: 10, message: `simulating ${job.loop}` });
   const method = job.settings.method && METHODS.has(job.settings.method) ? (job.settings.method as IntegratorMethod) : undefined;
-  const runs = simulate(compiled.loop, { mode: job.mode, budgetMs: job.budgetMs, ...(job.settings.tolerance ? { tolerance: job.settings.tolerance } : {}), ...(method ? { method } : {}) });
+  const runs = simulate(compiled.compiled, { mode: job.mode, budgetMs: job.budgetMs, linear: linearRunner(analysis), ...(job.settings.tolerance ? { tolerance: job.settings.tolerance } : {}), ...(method ? { method } : {}) });
   post({ type: 'progress', percentage: 90, message: `${runs.length} run${runs.length === 1 ? '' : 's'} done` });
-  const report: LoopRunReport = buildReport(compiled.loop, runs);
-  try {
-    const lin = linearizeLoop(analysis, job.loop);
-    if (lin.ok) report.poles = { closed: lin.poles, open: lin.open };
-  } catch {
-    // poles are an extra; the runs stand without them
-  }
+  const report: LoopRunReport = reportFor(analysis, compiled.compiled, runs);
   post({ type: 'done', report });
 }
 

@@ -4,6 +4,19 @@ import { analyze } from '../analysis';
 import { diagnosticLine, locate, type LocatedDiagnostic } from './format';
 import { EXIT_FAIL, EXIT_OK, EXIT_USAGE, parseArgs, type CliCommand } from './types';
 import { readSource } from './source';
+import { compileAnalysis } from '../model/compile';
+import type { Diagnostic } from '../diagnostics';
+
+/** A system shared by two loops is compiled twice; report each of its findings once. */
+function dedupe(ds: Diagnostic[]): Diagnostic[] {
+  const seen = new Set<string>();
+  return ds.filter((d) => {
+    const k = `${d.code}:${d.span.start}:${d.span.end}:${d.message}`;
+    if (seen.has(k)) return false;
+    seen.add(k);
+    return true;
+  });
+}
 
 export const command: CliCommand = {
   name: 'check',
@@ -25,7 +38,10 @@ Exit status: 0 no errors (warnings allowed), 1 an error was found, 2 usage error
       const src = readSource(file, io, 'check');
       if (src === undefined) return EXIT_USAGE;
       const a = analyze(src);
-      all.push(...locate(file, src, a.diagnostics));
+      // model-level checks (algebraic loops, improper relations) come from compiling each loop;
+      // compiling adds its diagnostics to the analysis
+      for (const loop of a.symbols.loops.keys()) compileAnalysis(a, loop);
+      all.push(...locate(file, src, dedupe(a.diagnostics)));
     }
     if (p.flags.has('json')) io.out(JSON.stringify(all, null, 2));
     else for (const d of all) io.out(diagnosticLine(d));

@@ -2,8 +2,9 @@
 
 import type { CliCommand } from './types';
 import { command as check } from './check';
+import { command as simulate } from './simulate';
 import { command as linearize } from './linearize';
 import { command as exportCommand } from './export';
 import { command as sweep } from './sweep';
 
-export const COMMANDS: CliCommand[] = [check, linearize, sweep, exportCommand];
+export const COMMANDS: CliCommand[] = [check, simulate, linearize, sweep, exportCommand];

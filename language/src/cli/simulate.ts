@@ -3,9 +3,10 @@
 // expects, and exits 1 when an expect fails or a run fails.
 
 import { analyze } from '../analysis';
-import { compileAnalysis } from '../model/compile';
+import { compileForRun, reportFor } from '../runs';
+import { linearRunner } from '../linear/linear-run';
 import type { RunResult, SignalMetrics } from '../protocol';
-import { buildReport, simulate } from '../sim/run';
+import { simulate } from '../sim/run';
 import { diagnosticLine, locate, table } from './format';
 import { readSource } from './source';
 import { writeHtmlReport } from './report';
@@ -84,15 +85,15 @@ Exit status: 0 all runs finished and every expect holds, 1 a run failed or an ex
       return EXIT_USAGE;
     }
     const loopName = flagString(p, 'loop');
-    const compiled = compileAnalysis(a, loopName);
-    if (!compiled.loop) {
+    const compiled = compileForRun(a, loopName);
+    if (!compiled.compiled) {
       for (const d of locate(file, src, compiled.diagnostics.filter((d) => d.severity === 'error'))) io.err(diagnosticLine(d));
       io.err(`loopwright simulate: ${compiled.reason ?? 'the loop cannot be run'}`);
       return EXIT_USAGE;
     }
-    const c = compiled.loop;
-    const runs = simulate(c);
-    const report = buildReport(c, runs, file);
+    const c = compiled.compiled;
+    const runs = simulate(c, { linear: linearRunner(a) });
+    const report = reportFor(a, c, runs, file);
     const units = new Map(report.signals.map((s) => [s.name, s.unit]));
     const failed = runs.some((r) => r.error || r.expects.some((e) => !e.pass));
     const html = flagString(p, 'html');

@@ -5,10 +5,10 @@
 // `sweep start` member for the largest one from which the loop still recovers (LANGUAGE.md §4.3).
 
 import { analyze, type Analysis } from '../analysis';
-import { compileAnalysis, type Compiled } from '../model/compile';
+import type { Compiled } from '../model/compile';
 import { displayUnit, type DisplayUnit } from '../model/units';
 import type { RunResult } from '../protocol';
-import { buildReport } from '../sim/run';
+import { compileForRun, reportFor } from '../runs';
 import { runSpec, type RunSpec, type SweepSpec } from '../sim/sweep';
 import { parseUnit } from '../units/registry';
 import { dimEq } from '../units/dimension';
@@ -199,13 +199,13 @@ function load(io: CliIO, file: string, loop: string | undefined): Loaded | numbe
     io.err(`loopwright sweep: ${file} has no loop named '${loop}'${have.length ? ` (it has ${have.join(', ')})` : ''}`);
     return EXIT_USAGE;
   }
-  const r = compileAnalysis(a, loop);
-  if (!r.loop) {
+  const r = compileForRun(a, loop);
+  if (!r.compiled) {
     for (const d of locate(file, src, r.diagnostics.filter((d) => d.severity === 'error'))) io.err(diagnosticLine(d));
     io.err(`loopwright sweep: ${r.reason ?? 'the loop cannot be run'}`);
     return EXIT_FAIL;
   }
-  return { file, analysis: a, c: r.loop, spec: runSpec(r.loop) };
+  return { file, analysis: a, c: r.compiled, spec: runSpec(r.compiled) };
 }
 
 export const command: CliCommand = {
@@ -265,7 +265,7 @@ errors, 2 usage error or unreadable file.`,
       bar.update(0);
       const runs = await exec.run(plan, (n) => bar.update(n));
       bar.finish(runs.length, exec.mode === 'threads' ? `done on ${Math.min(exec.threads, plan.length)} threads` : 'done');
-      const report = buildReport(c, runs, file);
+      const report = reportFor(analysis, c, runs, file);
       const units = new Map(report.signals.map((s) => [s.name, s.unit]));
       const shown = report.signals[0]?.name;
       const rows = runs.map((r) => rowOf(r, shown));

@@ -2,7 +2,8 @@
 
 import { parentPort } from 'node:worker_threads';
 import { analyze } from '../analysis';
-import { compileAnalysis, type Compiled } from '../model/compile';
+import type { Compiled } from '../model/compile';
+import { compileForRun } from '../runs';
 import { runOnce } from './run';
 import { runSpec, type RunSpec } from './sweep';
 import type { PoolOptions, WorkerReply, WorkerRequest } from './pool';
@@ -15,9 +16,10 @@ parentPort?.on('message', (m: WorkerRequest) => {
   const reply = (r: WorkerReply) => parentPort!.postMessage(r);
   try {
     if (m.type === 'init') {
-      const r = compileAnalysis(analyze(m.text), m.loop);
-      if (!r.loop) return reply({ type: 'failed', message: r.reason ?? 'the loop does not compile' });
-      compiled = r.loop;
+      // the same compile-and-seed step as in-process runs, so threads and main thread agree
+      const r = compileForRun(analyze(m.text), m.loop);
+      if (!r.compiled) return reply({ type: 'failed', message: r.reason ?? 'the loop does not compile' });
+      compiled = r.compiled;
       spec = runSpec(compiled);
       runOpts = m.run ?? {};
       reply({ type: 'ready' });
