@@ -121,11 +121,6 @@ export class LoopParser extends CstParser {
     return !this.layout.breakBefore[i] || !!this.layout.nested[i];
   }
 
-  private isType(k: number, type: TokenType): boolean {
-    const tok = this.LA(k);
-    return T.tokenMatches(tok, type);
-  }
-
   public file = this.RULE('file', () => {
     this.MANY(() => this.SUBRULE(this.block));
   });
@@ -163,14 +158,10 @@ export class LoopParser extends CstParser {
         { ALT: () => this.SUBRULE(this.showMember) },
         { ALT: () => this.SUBRULE(this.expectMember) },
         { ALT: () => this.SUBRULE(this.solveMember) },
-        {
-          GATE: () => this.isType(1, T.Ident) && this.isType(2, T.Quote) && this.isType(3, T.Equals),
-          ALT: () => this.SUBRULE(this.derivMember),
-        },
-        {
-          GATE: () => this.isType(1, T.Ident) && this.isType(2, T.Slash) && this.isType(3, T.Ident) && this.isType(4, T.Equals),
-          ALT: () => this.SUBRULE(this.transferMember),
-        },
+        // `x' = …` and `y / u = …` are told from an arrow by the lookahead itself (Ident Quote
+        // Equals; Ident Slash Ident Equals): no expression of an arrow has '=' in that place.
+        { ALT: () => this.SUBRULE(this.derivMember) },
+        { ALT: () => this.SUBRULE(this.transferMember) },
         { ALT: () => this.SUBRULE(this.arrowMember) },
       ]),
     });
