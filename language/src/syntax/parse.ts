@@ -106,7 +106,8 @@ function limitDepth(ast: FileAst, sink: DiagnosticSink): void {
   };
   for (const b of ast.blocks) {
     for (const m of b.members as unknown as Array<Record<string, unknown>>) {
-      for (const [k, v] of Object.entries(m)) {
+      for (const k in m) {
+        const v = m[k];
         if (isExpr(v)) m[k] = replace(v);
         else if (Array.isArray(v)) {
           for (let i = 0; i < v.length; i++) {
@@ -127,32 +128,48 @@ function isExpr(v: unknown): v is Expr {
   return !!v && typeof v === 'object' && EXPR_KINDS.has((v as { kind?: string }).kind ?? '') && 'span' in (v as object) && !('name' in (v as object) && typeof (v as { name: unknown }).name === 'object');
 }
 
-/** Depth of an expression tree, computed without recursion. */
+/** Depth of an expression tree, computed without recursion (stops once past the limit). */
 function depthOf(root: Expr): number {
   let max = 0;
-  const stack: Array<[Expr, number]> = [[root, 1]];
-  while (stack.length) {
-    const [e, d] = stack.pop()!;
+  const exprs: Expr[] = [root];
+  const depths: number[] = [1];
+  while (exprs.length) {
+    const e = exprs.pop()!;
+    const d = depths.pop()!;
     if (d > max) max = d;
     if (max > MAX_EXPRESSION_DEPTH) return max;
+    const below = d + 1;
     switch (e.kind) {
       case 'unary':
-        stack.push([e.operand, d + 1]);
+        exprs.push(e.operand);
+        depths.push(below);
         break;
       case 'binary':
-        stack.push([e.left, d + 1], [e.right, d + 1]);
+        exprs.push(e.left, e.right);
+        depths.push(below, below);
         break;
       case 'call':
-        for (const a of e.args) stack.push([a, d + 1]);
+        for (const a of e.args) {
+          exprs.push(a);
+          depths.push(below);
+        }
         break;
       case 'if':
-        stack.push([e.cond, d + 1], [e.then, d + 1], [e.else, d + 1]);
+        exprs.push(e.cond, e.then, e.else);
+        depths.push(below, below, below);
         break;
       case 'list':
-        for (const a of e.items) stack.push([a, d + 1]);
+        for (const a of e.items) {
+          exprs.push(a);
+          depths.push(below);
+        }
         break;
       case 'matrix':
-        for (const r of e.rows) for (const a of r) stack.push([a, d + 1]);
+        for (const r of e.rows)
+          for (const a of r) {
+            exprs.push(a);
+            depths.push(below);
+          }
         break;
       default:
         break;
