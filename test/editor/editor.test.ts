@@ -8,11 +8,17 @@ import { join } from 'node:path';
 import { packageVsix, ROOT } from '../package/package-vsix';
 import { ensureSandbox, startCodeServer, type RunningCodeServer } from './code-server';
 import { grammarProbes, makeWorkspace, type TestWorkspace } from './workspace';
+import type { Frame } from 'playwright-core';
 import {
   activeEditor,
+  canvasSignature,
+  plotDescription,
+  replaceInEditor,
   closePanel,
   dismissHover,
+  focusEditor,
   editorText,
+  editorTextOf,
   hoverText,
   languageMode,
   launch,
@@ -158,6 +164,101 @@ describe('Loopwright in the workbench', () => {
         throw new Error(`${e instanceof Error ? e.message : e}; notifications: ${(await notifications(page)).join(' | ')}`);
       });
       expect(await frame.locator('canvas').count()).toBeGreaterThan(0);
+      plot = frame;
+    });
+  });
+
+  // ---- live tuning: the plot follows the text, knobs edit the text ----
+
+  /** The text of kp's line in the editor. */
+  const kpLine = async () => (await editorTextOf(page, 'boom.loop')).split('\n').find((l) => /param kp\s*=/.test(l))?.trim() ?? '';
+  type Knob = { name: string; text: string; value: number };
+  const kpKnob = async () => (await plotDescription<{ knobs: Knob[] }>(plot!)).knobs.find((k) => k.name === 'Steady.kp');
+  let plot: Frame | undefined;
+
+  needsServer('changing kp in the text re-runs the loop and redraws the plot in place', async () => {
+    expect(plot, 'the plot panel of the previous step').toBeDefined();
+    await step('live-edit-kp', async () => {
+      await openFile(page, 'boom.loop', 'plant');
+      expect(await kpLine()).toBe('param kp = 14 [N*m/rad]');
+      expect((await kpKnob())?.value).toBe(14);
+      const before = await canvasSignature(plot!);
+      await replaceInEditor(page, 'kp = 14', 'kp = 40');
+      await expect.poll(kpLine, { timeout: 10_000 }).toBe('param kp = 40 [N*m/rad]');
+      // the live report brings the new knob value, and the canvases are drawn anew
+      await expect.poll(async () => (await kpKnob())?.value, { timeout: 30_000, interval: 250 }).toBe(40);
+      await expect.poll(() => canvasSignature(plot!), { timeout: 30_000, interval: 250 }).not.toBe(before);
+      expect(await plot!.locator('.lw-stale').isHidden()).toBe(true);
+    });
+  });
+
+  needsServer('an edit with an error keeps the last plot and shows the banner with the line', async () => {
+    await step('live-error-banner', async () => {
+      const before = await canvasSignature(plot!);
+      await replaceInEditor(page, 'kd*s/', 'kx*s/');
+      const banner = plot!.locator('.lw-stale');
+      await banner.waitFor({ state: 'visible', timeout: 30_000 });
+      const line = readFileSync(ws.boom, 'utf8').split('\n').findIndex((l) => l.includes('kd*s/')) + 1;
+      expect(await banner.innerText()).toMatch(new RegExp(`Not re-run: line ${line}: LW201`));
+      expect(await canvasSignature(plot!)).toBe(before);
+    });
+    await step('live-error-fixed', async () => {
+      await focusEditor(page, 'boom.loop');
+      await page.keyboard.press('Control+Z');
+      await expect.poll(async () => (await editorTextOf(page, 'boom.loop')).includes('kd*s/'), { timeout: 10_000 }).toBe(true);
+      await plot!.locator('.lw-stale').waitFor({ state: 'hidden', timeout: 30_000 });
+      expect(await kpLine()).toBe('param kp = 40 [N*m/rad]');
+    });
+  });
+
+  needsServer('dragging the kp knob edits the literal; one Ctrl+Z undoes the whole drag', async () => {
+    await step('knob-drag', async () => {
+      const slider = plot!.locator('input.lw-knob-slider[aria-label="Steady.kp [N*m/rad]"]');
+      await slider.waitFor({ timeout: 20_000 });
+      await slider.scrollIntoViewIfNeeded();
+      const box = await slider.boundingBox();
+      if (!box) throw new Error('the kp slider is not visible');
+      const y = box.y + box.height / 2;
+      const x0 = box.x + box.width / 2;
+      await page.mouse.move(x0, y);
+      await page.mouse.down();
+      const seen = new Set<string>();
+      for (let i = 1; i <= 6; i++) {
+        await page.mouse.move(x0 + (i * box.width) / 16, y, { steps: 2 });
+        await expect.poll(kpLine, { timeout: 5_000, interval: 50 }).not.toBe([...seen].pop() ?? 'param kp = 40 [N*m/rad]');
+        seen.add(await kpLine());
+      }
+      await page.mouse.up();
+      const after = await kpLine();
+      expect(after).toMatch(/^param kp = [\d.]+ \[N\*m\/rad\]$/);
+      expect(after).not.toBe('param kp = 40 [N*m/rad]');
+      // several edits landed in the text during the drag
+      expect(seen.size).toBeGreaterThanOrEqual(3);
+      expect(Number(/= ([\d.]+)/.exec(after)![1])).toBeGreaterThan(40);
+    });
+    await step('knob-drag-undone', async () => {
+      await focusEditor(page, 'boom.loop');
+      await page.keyboard.press('Control+Z');
+      await expect.poll(kpLine, { timeout: 10_000 }).toBe('param kp = 40 [N*m/rad]');
+      // the typed change of the earlier step is a separate undo step, still in place
+      await expect.poll(async () => (await kpKnob())?.value, { timeout: 30_000, interval: 250 }).toBe(40);
+    });
+  });
+
+  needsServer('ArrowRight on the kp knob steps the literal; Ctrl+Z restores it', async () => {
+    await step('knob-arrow', async () => {
+      const slider = plot!.locator('input.lw-knob-slider[aria-label="Steady.kp [N*m/rad]"]');
+      await slider.press('ArrowRight');
+      await expect.poll(kpLine, { timeout: 10_000 }).toMatch(/^param kp = 40\.[0-9]+ \[N\*m\/rad\]$/);
+      const stepped = Number(/= ([\d.]+)/.exec(await kpLine())![1]);
+      // one step is ×10^(1/120)
+      expect(stepped / 40).toBeCloseTo(10 ** (1 / 120), 2);
+      await expect.poll(async () => (await kpKnob())?.value, { timeout: 30_000, interval: 250 }).toBe(stepped);
+    });
+    await step('knob-arrow-undone', async () => {
+      await focusEditor(page, 'boom.loop');
+      await page.keyboard.press('Control+Z');
+      await expect.poll(kpLine, { timeout: 10_000 }).toBe('param kp = 40 [N*m/rad]');
     });
   });
 });

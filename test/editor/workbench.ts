@@ -39,6 +39,23 @@ export function activeEditor(page: Page): Locator {
   return page.locator('.editor-group-container.active .monaco-editor').first();
 }
 
+/** The text editor showing `name` in its group, whether or not that group has focus. */
+export function editorOf(page: Page, name: string): Locator {
+  return page.locator('.editor-group-container', { has: page.locator('.tabs-container .tab.active', { hasText: name }) }).locator('.monaco-editor').first();
+}
+
+/** Gives the editor of `name` the keyboard focus by clicking its tab (the cursor stays where it was). */
+export async function focusEditor(page: Page, name: string): Promise<void> {
+  await page.locator('.tabs-container .tab.active', { hasText: name }).first().click();
+  await page.locator('.editor-group-container.active .tabs-container .tab.active', { hasText: name }).waitFor({ timeout: 10_000 });
+  await page.waitForFunction(() => document.activeElement?.closest('.monaco-editor') !== null, undefined, { timeout: 10_000 });
+}
+
+/** The text shown by the editor of `name`, with the non-breaking spaces of the rendering made plain. */
+export async function editorTextOf(page: Page, name: string): Promise<string> {
+  return (await editorOf(page, name).locator('.view-lines').innerText({ timeout: 5_000 })).replace(/\u00a0/g, ' ');
+}
+
 /** Opens a file at the top of the workspace from the explorer and waits until its text is shown. */
 export async function openFile(page: Page, name: string, firstText: string): Promise<void> {
   const active = page.locator('.tabs-container .tab.active', { hasText: name });
@@ -187,4 +204,39 @@ export async function waitForDrawnCanvas(page: Page, timeout = 90_000): Promise<
 export async function notifications(page: Page): Promise<string[]> {
   const texts = await page.locator('.notifications-toasts .notification-list-item').allInnerTexts();
   return texts.map((t) => t.replace(/\s+/g, ' ').trim()).filter(Boolean);
+}
+
+/** A fingerprint of every canvas of a webview frame (size and pixels), to tell two drawings apart. */
+export async function canvasSignature(frame: Frame): Promise<string> {
+  return frame.evaluate(() => {
+    let h = 2166136261;
+    const parts: string[] = [];
+    for (const c of Array.from(document.querySelectorAll('canvas'))) {
+      if (c.width === 0 || c.height === 0) continue;
+      const ctx = c.getContext('2d');
+      if (!ctx) continue;
+      const data = ctx.getImageData(0, 0, c.width, c.height).data;
+      for (let i = 0; i < data.length; i += 1) h = Math.imul(h ^ data[i], 16777619) >>> 0;
+      parts.push(`${c.width}x${c.height}`);
+    }
+    return `${parts.join(',')}:${h.toString(16)}`;
+  });
+}
+
+/** What the plot page says it shows (window.loopwrightPlot.describe()). */
+export async function plotDescription<T = Record<string, unknown>>(frame: Frame): Promise<T> {
+  return frame.evaluate(() => (window as unknown as { loopwrightPlot: { describe(): unknown } }).loopwrightPlot.describe()) as Promise<T>;
+}
+
+/** Selects the first occurrence of `text` in the active editor (through the find widget) and types `replacement` over it. */
+export async function replaceInEditor(page: Page, text: string, replacement: string): Promise<void> {
+  await activeEditor(page).click();
+  await page.keyboard.press('Control+Home');
+  await page.keyboard.press('Control+F');
+  const input = page.locator('.editor-group-container.active .find-widget textarea, .editor-group-container.active .find-widget input').first();
+  await input.waitFor({ state: 'visible', timeout: 10_000 });
+  await input.fill(text);
+  await page.locator('.editor-group-container.active .find-widget .matchesCount', { hasText: /^1 of/ }).waitFor({ timeout: 10_000 });
+  await page.keyboard.press('Escape');
+  await page.keyboard.type(replacement);
 }
