@@ -354,7 +354,26 @@ class Parser {
   }
 }
 
+/**
+ * Results of parseUnit by text. A document writes the same few units many times (`[m]`, `[N]`,
+ * `[m/s]`), and reading one is far dearer than a lookup. The results are shared, so callers treat
+ * them as read-only (they all do); the cache is emptied when it grows past a bound so that a
+ * long-lived server editing many files keeps a small footprint.
+ */
+const parsed = new Map<string, UnitParse>();
+const PARSED_LIMIT = 4096;
+
 export function parseUnit(text: string): UnitParse {
+  let r = parsed.get(text);
+  if (r === undefined) {
+    if (parsed.size >= PARSED_LIMIT) parsed.clear();
+    r = readUnit(text);
+    parsed.set(text, r);
+  }
+  return r;
+}
+
+function readUnit(text: string): UnitParse {
   try {
     const acc = new Parser(tokenize(text)).parseAll();
     const dim = Object.freeze(acc.dim.map((x) => (Math.abs(x) < DIM_TOLERANCE ? 0 : x)));
