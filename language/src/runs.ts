@@ -11,6 +11,7 @@ import { loopLinear } from './linear/loop-linear';
 import { linearizeLoop } from './linear/linearize';
 import { buildReport, simulate, type SimulateOptions } from './sim/run';
 import type { LoopRunReport, ParamKnob, PoleInfo, RunResult } from './protocol';
+import { parseUnit } from './units/registry';
 
 export interface LoopRunOptions extends SimulateOptions {
   /** File name recorded in the report. */
@@ -92,10 +93,29 @@ export function runLoop(analysis: Analysis, loopName: string | undefined, option
 /** The report of some runs, with the closed-loop and plant poles and the knob candidates. */
 export function reportFor(analysis: Analysis, compiled: Compiled, runs: RunResult[], file?: string): LoopRunReport {
   const report = buildReport(compiled, runs, file);
+  for (const sig of report.signals) sig.group = panelOf(sig);
   const poles = polesOf(analysis, compiled.name);
   if (poles) report.poles = poles;
   report.params = knobsOf(compiled);
   return report;
+}
+
+/**
+ * Stacked panels by what a signal is: positions (lengths and angles), rates (their time
+ * derivatives), actuators (limited signals and plant inputs), else one panel per unit.
+ */
+function panelOf(sig: LoopRunReport['signals'][number]): string {
+  if (sig.group === 'actuator' || sig.kind === 'input' || sig.kind === 'controller') return 'actuator';
+  const r = parseUnit(sig.unit);
+  if (!r.ok) return sig.group;
+  const [m, kg, s, A, K, mol, cd] = r.unit.dim;
+  const only = (x: number[]) => x.every((v) => Math.abs(v) < 1e-9);
+  if (only([kg, A, K, mol, cd])) {
+    const angle = r.unit.angle;
+    if (Math.abs(s) < 1e-9 && ((Math.abs(m - 1) < 1e-9 && Math.abs(angle) < 1e-9) || (Math.abs(m) < 1e-9 && Math.abs(angle - 1) < 1e-9))) return 'position';
+    if (Math.abs(s + 1) < 1e-9 && ((Math.abs(m - 1) < 1e-9 && Math.abs(angle) < 1e-9) || (Math.abs(m) < 1e-9 && Math.abs(angle - 1) < 1e-9))) return 'rate';
+  }
+  return sig.group;
 }
 
 function polesOf(analysis: Analysis, loop: string): { closed: PoleInfo[]; open: PoleInfo[] } | undefined {
