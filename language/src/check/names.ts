@@ -515,15 +515,42 @@ export class NameChecker {
         }
       }
     }
+    // Instances in the order of the systems' declarations: each named system, then the uses of
+    // it named in the loop. Only the systems this loop names are visited, so a file of many
+    // loops and systems costs in proportion to its size, not to loops × systems.
+    const usesOf = new Map<SystemSymbol, A.UseDecl[]>();
+    for (const u of loop.uses.values()) {
+      if (u.name.missing || !named.has(u.name.name)) continue;
+      const sys = this.systems.get(u.system.name);
+      if (!sys) continue;
+      const us = usesOf.get(sys);
+      if (us) us.push(u);
+      else usesOf.set(sys, [u]);
+    }
+    const chosen = new Set<SystemSymbol>();
+    for (const name of named) {
+      const sys = this.systems.get(name);
+      if (sys) chosen.add(sys);
+    }
+    for (const sys of usesOf.keys()) chosen.add(sys);
+    const order = this.systemOrder();
     const list: LoopInstance[] = [];
-    for (const sys of this.systems.values()) {
+    for (const sys of [...chosen].sort((a, b) => order.get(a)! - order.get(b)!)) {
       if (named.has(sys.name)) list.push({ name: sys.name, system: sys });
-      for (const u of loop.uses.values()) {
-        if (u.system.name === sys.name && !u.name.missing && named.has(u.name.name)) list.push({ name: u.name.name, system: sys, use: u });
-      }
+      for (const u of usesOf.get(sys) ?? []) list.push({ name: u.name.name, system: sys, use: u });
     }
     list.sort((a, b) => (a.system.kind === b.system.kind ? 0 : a.system.kind === 'plant' ? -1 : 1));
     for (const inst of list) loop.instances.set(inst.name, inst);
+  }
+
+  private order?: Map<SystemSymbol, number>;
+  /** Position of each system among the declarations (the systems are all declared by now). */
+  private systemOrder(): Map<SystemSymbol, number> {
+    if (!this.order) {
+      this.order = new Map();
+      for (const sys of this.systems.values()) this.order.set(sys, this.order.size);
+    }
+    return this.order;
   }
 
   private checkLoopMember(loop: LoopSymbol, m: A.LoopMember, index: number, wired: Map<string, A.Arrow>): void {
