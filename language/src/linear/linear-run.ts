@@ -22,7 +22,8 @@
 // O(h²·ω²) of the amplitude; refine the grid (`points`) to follow a fast sine closely.
 // Outputs, inputs and signals are then y = y* + C δx + D δr, u = u* + Cu δx + Du δr.
 // The linear model has no limits: `saturated()` measures 0 and nothing is reported at a limit.
-// IAE is integrated by the trapezoid rule on the grid and the breakpoints.
+// IAE is integrated by the trapezoid rule on the grid and the breakpoints, from the unit's zero
+// (∫|y − offset| dt, as the nonlinear run does).
 
 import type { Analysis } from '../analysis';
 import type { Compiled } from '../model/compile';
@@ -30,7 +31,7 @@ import type { TracedSignal } from '../model/types';
 import type { Expr } from '../syntax/ast';
 import type { RunResult, SignalMetrics } from '../protocol';
 import type { LinearRunner, RunInput } from '../sim/run';
-import { evaluateExpects, rawMetrics } from '../sim/metrics';
+import { displayMetrics, evaluateExpects, recovers } from '../sim/metrics';
 import type { RunSpec } from '../sim/sweep';
 import { expm } from './expm';
 import { loopLinear, type LoopLinear } from './loop-linear';
@@ -176,7 +177,8 @@ export function linearRun(lin: LoopLinear, grid: LinearGrid, options: LinearRunO
     const last = sampT.length - 1;
     const dt = t - sampT[last];
     for (let k = 0; k < nTr; k++) {
-      iae[k] += (dt * (Math.abs(sampY[k][last]) + Math.abs(v[k]))) / 2;
+      const o = traced[k].offset;
+      iae[k] += (dt * (Math.abs(sampY[k][last] - o) + Math.abs(v[k] - o))) / 2;
       sampY[k].push(v[k]);
     }
     sampT.push(t);
@@ -209,29 +211,29 @@ export function linearRun(lin: LoopLinear, grid: LinearGrid, options: LinearRunO
   traced.forEach((tr, k) => {
     if (!tr.shown) return;
     signals[tr.name] = gridY.map((v) => (v[k] - tr.offset) / tr.scale);
-    const m = rawMetrics({ t: sampT, y: sampY[k] });
+    const m = displayMetrics({ t: sampT, y: sampY[k] }, tr, iae[k]);
     metrics[tr.name] = {
-      initial: (m.initial - tr.offset) / tr.scale,
-      final: (m.final - tr.offset) / tr.scale,
-      peak: Math.abs(m.peak) / tr.scale,
+      initial: m.initial,
+      final: m.final,
+      peak: m.peak,
       rise: m.rise,
       overshoot: m.overshoot,
       settling: m.settling,
-      iae: iae[k] / tr.scale,
+      iae: m.iae,
       ...(tr.limit !== undefined ? { timeAtLimit: 0 } : {}),
     };
   });
-  // Recovery (LANGUAGE.md §4.3): every plant state within 2 % of its initial distance from the
-  // operating point (abstol when that is zero) over the last tenth of the run.
+  // Recovery (LANGUAGE.md §4.3, sim/metrics.ts recovers): every plant state within its band over
+  // the last tenth of the run (2 % of its initial distance from the operating point; for a state
+  // starting there, 2 % of the largest distance it reaches, at least abstol).
   const plantStates: number[] = [];
   for (const I of lin.instances) if (I.kind === 'plant') for (let i = 0; i < I.x.length; i++) plantStates.push(I.layout.xOffset + i);
   const tail = T[0] + 0.9 * (T[T.length - 1] - T[0]);
   const atol = options.spec?.atol ?? 1e-9;
-  const recovered = plantStates.every((i) => {
-    const d0 = Math.abs(stateAt[0][i]);
-    const allowed = d0 > 0 ? 0.02 * d0 : atol;
-    return stateAt.every((d, g) => T[g] < tail || Math.abs(d[i]) <= allowed);
-  });
+  const d0 = Float64Array.from(plantStates, (i) => Math.abs(stateAt[0][i]));
+  const dMax = Float64Array.from(plantStates, (i) => stateAt.reduce((mx, d) => Math.max(mx, Math.abs(d[i])), 0));
+  const tailMax = Float64Array.from(plantStates, (i) => stateAt.reduce((mx, d, g) => (T[g] < tail ? mx : Math.max(mx, Math.abs(d[i]))), 0));
+  const recovered = recovers(d0, dMax, tailMax, atol);
   const expects = options.spec
     ? evaluateExpects(c, options.spec, { traced, t: sampT, y: sampY, iae, atLimit: c.limits.map(() => []), duration: T[T.length - 1] - T[0], complete: true })
     : [];

@@ -289,7 +289,13 @@ export function compileLoop(input: LoopCompileInput): CompiledLoop | undefined {
     const period = inst.disc!.constant(inst.plan.sample!.period);
     const hw: FnWrite[] = inst.plan.outputs.map((_, j) => ({ target: 'hn', index: j, node: inst.disc!.output(j) }));
     const xw: FnWrite[] = inst.plan.states.map((_, i) => ({ target: 'xn', index: i, node: inst.disc!.next(i, period) }));
-    sampleFns.push({ name: `sample${sampledList.length}`, args: ['t', 'x', 'hn', 'xn'], writes: [...hw, ...xw] });
+    // pre-limit values and bounds of the controller's limits at the instant (for time at a limit)
+    const lw: FnWrite[] = inst.plan.limits.flatMap((_, k) => {
+      const b = inst.disc!.limitBounds(k);
+      const o = inst.limitOffset + k;
+      return [{ target: 'lpre', index: o, node: inst.disc!.limitPre(k) }, { target: 'llo', index: o, node: b.lo }, { target: 'lhi', index: o, node: b.hi }];
+    });
+    sampleFns.push({ name: `sample${sampledList.length}`, args: ['t', 'x', 'hn', 'xn', 'lpre', 'llo', 'lhi'], writes: [...hw, ...xw, ...lw] });
     sampledList.push({ instance: inst.name, span: inst.plan.sample!.span, period: inst.compiled.sample!.period, method: inst.plan.sample!.method, xOffset: inst.xOffset, nStates: inst.plan.states.length, heldOffset: inst.heldOffset, nOutputs: inst.plan.outputs.length });
   }
 
@@ -440,6 +446,7 @@ export function compileLoop(input: LoopCompileInput): CompiledLoop | undefined {
     const jw = new Float64Array(n * m), rx = new Float64Array(m * n), rw = new Float64Array(m * m);
     const hn = sampledList.map((s) => new Float64Array(s.nOutputs));
     const xn = sampledList.map((s) => new Float64Array(s.nStates));
+    const sampledLimits = { pre: new Float64Array(nLim), lo: new Float64Array(nLim), hi: new Float64Array(nLim) };
     const bps = evaluate(g, bpNodes, { p }).filter((v) => Number.isFinite(v));
     const sortedBps = [...new Set(bps)].sort((a, b) => a - b);
     return {
@@ -461,11 +468,12 @@ export function compileLoop(input: LoopCompileInput): CompiledLoop | undefined {
       signals: fns.sig as LoopEvaluator['signals'],
       sample: (k, t, x) => {
         const s = sampledList[k];
-        fns[`sample${k}`](t, x, hn[k], xn[k]);
+        fns[`sample${k}`](t, x, hn[k], xn[k], sampledLimits.pre, sampledLimits.lo, sampledLimits.hi);
         held.set(hn[k], s.heldOffset);
         x.set(xn[k], s.xOffset);
       },
       breakpoints: () => sortedBps.slice(),
+      sampledLimits,
     };
   };
   const def = evaluator(params);

@@ -213,6 +213,12 @@ export interface LoopEvaluator {
   signals(t: number, x: Float64Array, inputs: Float64Array, outputs: Float64Array): void;
   /** At a sample instant of controller k: sample its inputs, update its held outputs and states in x. */
   sample(k: number, t: number, x: Float64Array): void;
+  /**
+   * Limits inside sampled controllers, as of each one's latest sample instant (by loop limit
+   * index; other entries stay 0): pre-limit value and bounds. The held value is clamped when pre
+   * lies outside [lo, hi], and stays so until the next instant.
+   */
+  readonly sampledLimits: { readonly pre: Float64Array; readonly lo: Float64Array; readonly hi: Float64Array };
   /** Breakpoints of signal functions (step edges, pulse edges, ramp starts) in s, sorted. */
   breakpoints(): number[];
 }

@@ -121,6 +121,51 @@ export function rawMetrics(s: Samples, band = 0.02): RawMetrics {
   };
 }
 
+/**
+ * Metrics of one traced signal in its declared unit: the samples are converted to display
+ * values first (display = (SI − offset) / scale), so `peak` is the largest |y| as shown (180 for
+ * an oven at 180 degC, not 453.15) and `initial` / `final` are shown values. Times and
+ * overshoot do not depend on the unit. `iaeSI` is ∫|y − offset| dt in SI (the driver integrates
+ * the distance from the unit's zero); the result is in display unit·s (degC·s for a degC signal).
+ */
+export function displayMetrics(s: Samples, tr: { scale: number; offset: number }, iaeSI: number): RawMetrics & { iae: number } {
+  const n = s.y.length;
+  const y = new Float64Array(n);
+  for (let i = 0; i < n; i++) y[i] = (s.y[i] - tr.offset) / tr.scale;
+  const m = rawMetrics({ t: s.t, y });
+  return { ...m, iae: iaeSI / tr.scale };
+}
+
+/** Largest |y| in the signal's display unit, given back in SI (display · scale + offset) for expects. */
+export function peakSI(s: Samples, tr: { scale: number; offset: number }): number {
+  let p = 0;
+  for (let i = 0; i < s.y.length; i++) p = Math.max(p, Math.abs(s.y[i] - tr.offset));
+  return p + tr.offset;
+}
+
+/**
+ * Recovery band of one plant state (LANGUAGE.md §4.3 with the decision of docs/language.md):
+ * 2 % of its initial distance d0 from the operating point; for a state that starts at the point
+ * (d0 = 0), 2 % of the largest distance it reaches during the run, never below abstol (so a state
+ * that never leaves the point, or only by rounding, has the band abstol).
+ */
+export function recoveryBand(d0: number, dMax: number, abstol: number): number {
+  if (d0 > 0) return 0.02 * d0;
+  return Math.max(abstol, 0.02 * dMax);
+}
+
+/**
+ * Does a run recover? Per plant state: d0 its initial distance from the operating point, dMax the
+ * largest distance over the run, tailMax the largest over the last tenth. Both run drivers
+ * (sim/run.ts, linear/linear-run.ts) decide with this one function.
+ */
+export function recovers(d0: ArrayLike<number>, dMax: ArrayLike<number>, tailMax: ArrayLike<number>, abstol: number): boolean {
+  for (let i = 0; i < d0.length; i++) {
+    if (!(tailMax[i] <= recoveryBand(d0[i], dMax[i], abstol))) return false;
+  }
+  return true;
+}
+
 // Gauss–Legendre 3-point rule on [0, 1] (nodes 1/2 ∓ √15/10, weights 5/18, 8/18, 5/18).
 export const GL3_NODES = [0.5 - Math.sqrt(15) / 10, 0.5, 0.5 + Math.sqrt(15) / 10] as const;
 export const GL3_WEIGHTS = [5 / 18, 8 / 18, 5 / 18] as const;
@@ -251,18 +296,20 @@ function metricValue(c: Compiled, d: ExpectData, name: string, args: Expr[]): nu
     case 'final':
       return s.y[s.y.length - 1];
     case 'peak':
-      return peakOf(s);
+      return peakSI(s, d.traced[j]);
     case 'rise':
       return need(riseOf(s), 'rise time');
     case 'overshoot':
       return need(overshootOf(s), 'overshoot');
     case 'iae':
+      // ∫|y − offset| dt: for an offset unit (degC) the integral of the shown value, in K·s
       return d.iae[j];
     case 'settling': {
       const band = args[1];
       if (!band) throw new ExpectError('settling needs a band');
-      const bv = c.constant(band);
       const relative = band.kind === 'number' || (band.kind === 'quantity' && isPureNumberUnit(band.unit.text));
+      // an absolute band is a width: the offset of its unit does not apply (2 [degC] is 2 K wide)
+      const bv = c.constant(band) - (!relative && band.kind === 'quantity' ? displayUnit(band.unit.text).offset : 0);
       const w = bandWidth(s, bv, relative);
       if (relative && changeOf(s).still) throw new ExpectError(`${nameOf()} does not change, so a relative band has no width`);
       return need(settlingOf(s, w), 'settling time');

@@ -12,7 +12,7 @@ import { LimitMode, type TracedSignal } from '../model/types';
 import type { LoopRunReport, RunError, RunResult, SignalInfo, SignalMetrics, SolverStats } from '../protocol';
 import { createIntegrator, type IntegratorMethod, type SegmentResult, type StepView } from './solver';
 import { eventValue, hysteresis, locateRoot, modeFor, nextMode } from './events';
-import { GL3_NODES, GL3_WEIGHTS, rawMetrics } from './metrics';
+import { GL3_NODES, GL3_WEIGHTS, displayMetrics, recovers } from './metrics';
 import { evaluateExpects } from './metrics';
 import { runSpec, type RunSpec } from './sweep';
 
@@ -74,6 +74,15 @@ function mergedSamples(rec: Recorder, gridT: Float64Array, filled: number, nTr: 
   return { t: t.subarray(0, n), y: y.map((a) => a.subarray(0, n)) };
 }
 
+/** The largest double below v (v finite and positive). */
+function prevDown(v: number): number {
+  if (v === 0) return -Number.MIN_VALUE;
+  const b = new Float64Array([v]);
+  const u = new BigInt64Array(b.buffer);
+  u[0] += v > 0 ? -1n : 1n;
+  return b[0];
+}
+
 const now = (): number => (typeof performance !== 'undefined' ? performance.now() : Date.now());
 
 export function fmtTime(t: number): string {
@@ -102,6 +111,10 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   const pre2 = new Float64Array(nLim), lo2 = new Float64Array(nLim), hi2 = new Float64Array(nLim);
   const modes = ev.modes;
   for (const k of evLimits) modes[k] = LimitMode.FREE;
+  // limits inside sampled controllers: at their limit from one sample instant to the next
+  const isSampledLimit = new Uint8Array(nLim);
+  for (const l of c.limits) if (l.sampled) isSampledLimit[l.index] = 1;
+  const sampledAt = new Uint8Array(nLim);
   const atLimitSince = new Float64Array(nLim).fill(NaN);
   const atLimit: Array<Array<[number, number]>> = Array.from({ length: nLim }, () => []);
 
@@ -115,8 +128,16 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   for (let i = 0; i < points; i++) gridT[i] = i === points - 1 ? tEnd : (tEnd * i) / (points - 1);
   let nextGrid = 0;
 
+  // Within a segment that ends on a breakpoint b, every evaluation at t ≥ b takes the left limit
+  // of the signals (time just below b): the last stage of the step that lands on b, the dense
+  // output and the event functions there all belong to the segment before the edge. The values
+  // after the edge (right-continuous) are taken once the segment has ended, with the limit modes
+  // settled for them.
+  let tCap = Infinity, tBelow = Infinity;
+  const tc = (tt: number): number => (tt < tCap ? tt : tBelow);
+
   let algFailure: AlgebraicLoopFailure | undefined;
-  const rhs = c.algebraicLoops.length
+  const rhs0 = c.algebraicLoops.length
     ? (t: number, xx: Float64Array, dx: Float64Array) => {
         try {
           ev.rhs(t, xx, dx);
@@ -126,7 +147,9 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
         }
       }
     : ev.rhs;
-  const integrator = createIntegrator(method, { n, f: rhs, jac: ev.jac }, { rtol, atol, maxSteps: 200000 });
+  const rhs = (tt: number, xx: Float64Array, dx: Float64Array) => rhs0(tt < tCap ? tt : tBelow, xx, dx);
+  const jac = (tt: number, xx: Float64Array, J: Float64Array) => ev.jac(tt < tCap ? tt : tBelow, xx, J);
+  const integrator = createIntegrator(method, { n, f: rhs, jac }, { rtol, atol, maxSteps: 200000 });
 
   let error: RunError | undefined;
   const stateName = (i: number | undefined) => (i !== undefined && i >= 0 && i < n ? c.states[i].qualified : undefined);
@@ -171,8 +194,8 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
     ev.limitValues(t, xs, a, b, cc);
   };
   const noteModes = (t: number) => {
-    for (const k of evLimits) {
-      const at = modes[k] !== LimitMode.FREE;
+    for (let k = 0; k < nLim; k++) {
+      const at = isSampledLimit[k] ? sampledAt[k] === 1 : modes[k] !== LimitMode.FREE;
       if (at && Number.isNaN(atLimitSince[k])) atLimitSince[k] = t;
       if (!at && !Number.isNaN(atLimitSince[k])) {
         if (t > atLimitSince[k]) atLimit[k].push([atLimitSince[k], t]);
@@ -210,12 +233,19 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
       opX[inst.xOffset + i] = pt && i < inst.system.declaredStates ? pt.x[i] : 0;
     }
   }
-  const maxDev = new Float64Array(n);
+  const maxDev = new Float64Array(n); // largest distance over the last tenth
+  const maxDist = new Float64Array(n); // largest distance over the run
   const tTail = 0.9 * tEnd;
   const noteTail = (t: number, xs: Float64Array) => {
-    if (t < tTail) return;
-    for (const i of plantStates) maxDev[i] = Math.max(maxDev[i], Math.abs(xs[i] - opX[i]));
+    const tail = t >= tTail;
+    for (const i of plantStates) {
+      const d = Math.abs(xs[i] - opX[i]);
+      if (d > maxDist[i]) maxDist[i] = d;
+      if (tail && d > maxDev[i]) maxDev[i] = d;
+    }
   };
+  // IAE of a signal is taken from its unit's zero: ∫|y − offset| dt (degC signals in degC·s)
+  const off = Float64Array.from(traced, (tr) => tr.offset);
 
   // ---- one interval [a, b] of a step, with its dense output ----
   const processInterval = (view: StepView, a: number, b: number, xb: Float64Array) => {
@@ -225,7 +255,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
       const tg = gridT[nextGrid];
       if (deferB && tg >= b) break;
       if (tg >= b) {
-        ev.traced(b, xb, trBuf);
+        ev.traced(tc(b), xb, trBuf);
       } else {
         view.dense(tg, xq);
         ev.traced(tg, xq, trBuf);
@@ -235,14 +265,15 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
     }
     // IAE by 3-point Gauss–Legendre on the dense output; split where a signal changes sign
     const h = b - a;
-    ev.traced(b, xb, trBuf);
+    ev.traced(tc(b), xb, trBuf);
     if (h > 0 && nTr > 0) {
       for (let q = 0; q < 3; q++) {
         view.dense(a + GL3_NODES[q] * h, xq);
         ev.traced(a + GL3_NODES[q] * h, xq, trNode[q]);
       }
       for (let j = 0; j < nTr; j++) {
-        const y0 = trPrev[j], y1 = trNode[0][j], y2 = trNode[1][j], y3 = trNode[2][j], y4 = trBuf[j];
+        const o = off[j];
+        const y0 = trPrev[j] - o, y1 = trNode[0][j] - o, y2 = trNode[1][j] - o, y3 = trNode[2][j] - o, y4 = trBuf[j] - o;
         if (timeDep[j]) {
           rec.iae[j] += iaeTimeDependent(view, j, a, b);
         } else if (y0 * y1 < 0 || y1 * y2 < 0 || y2 * y3 < 0 || y3 * y4 < 0) {
@@ -302,8 +333,8 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   };
   const sig = (view: StepView, j: number, t: number) => {
     view.dense(t, xq);
-    ev.traced(t, xq, trOne);
-    return trOne[j];
+    ev.traced(tc(t), xq, trOne);
+    return trOne[j] - off[j];
   };
   /** ∫|y_j| over [a, b] when y_j changes sign: cut at each sign change between the known values, integrate the pieces. */
   const iaeSplit = (view: StepView, j: number, a: number, b: number, ys: number[]): number => {
@@ -346,6 +377,8 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
       const j = Math.round(t / T);
       if (Math.abs(j * T - t) <= 1e-12 * Math.max(1, t)) ev.sample(k, t, x);
     });
+    const sl = ev.sampledLimits;
+    for (let k = 0; k < nLim; k++) if (isSampledLimit[k]) sampledAt[k] = sl.pre[k] > sl.hi[k] || sl.pre[k] < sl.lo[k] ? 1 : 0;
   };
 
   // ---- start ----
@@ -386,14 +419,14 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
       return 'stop';
     }
     if (evLimits.length) {
-      ev.limitValues(view.t, view.x, pre, lo, hi);
+      ev.limitValues(tc(view.t), view.x, pre, lo, hi);
       let tFirst = Infinity, kFirst = -1;
       for (const k of evLimits) {
         const gEnd = eventValue(modes[k], pre[k], lo[k], hi[k]);
         if (gEnd < -hysteresis(lo[k], hi[k])) {
           const g = (tq: number) => {
             view.dense(tq, xq);
-            ev.limitValues(tq, xq, pre2, lo2, hi2);
+            ev.limitValues(tc(tq), xq, pre2, lo2, hi2);
             return eventValue(modes[k], pre2[k], lo2[k], hi2[k]);
           };
           const ga = Math.max(0, g(view.tPrev));
@@ -427,12 +460,16 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
     eventAt = NaN;
     eventLimit = -1;
     let res: SegmentResult;
+    tCap = stop < tEnd ? stop : Infinity;
+    tBelow = stop < tEnd ? prevDown(stop) : Infinity;
     try {
       res = integrator.integrate(t, x, stop, onStep, h0);
     } catch (e) {
+      tCap = tBelow = Infinity;
       error = { code: 'LW701', message: `the run failed at t = ${fmtTime(t)}: ${(e as Error).message}`, time: t };
       break;
     }
+    tCap = tBelow = Infinity;
     if (res.status === 'failed') {
       error = failureError(res, c, algFailure, method, integrator.stats.steps, t, fastestState, ev.jac);
       break;
@@ -447,7 +484,9 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
       t = ft;
       break;
     }
-    if (eventLimit >= 0) {
+    // a limit event on the stop itself is handled with the stop (modes settled for the values after it)
+    const eventOnStop = eventLimit >= 0 && eventAt >= stop && stop < tEnd;
+    if (eventLimit >= 0 && !eventOnStop) {
       t = eventAt;
       x.set(xEvent);
       safeLimits(t, x, pre, lo, hi);
@@ -460,8 +499,13 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
       }
       continue;
     }
-    t = res.t;
-    x.set(res.x);
+    if (eventOnStop) {
+      t = stop;
+      x.set(xEvent);
+    } else {
+      t = res.t;
+      x.set(res.x);
+    }
     if (t >= tEnd) break;
     // a breakpoint or a sample instant
     try {
@@ -477,7 +521,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
     h0 = undefined;
   }
   noteModes(Math.min(t, tEnd));
-  for (const k of evLimits) if (!Number.isNaN(atLimitSince[k]) && t > atLimitSince[k]) atLimit[k].push([atLimitSince[k], t]);
+  for (let k = 0; k < nLim; k++) if (!Number.isNaN(atLimitSince[k]) && t > atLimitSince[k]) atLimit[k].push([atLimitSince[k], t]);
 
   // grid points not reached (failed runs) stay NaN
   for (let i = nextGrid; i < points; i++) for (let j = 0; j < nTr; j++) rec.grid[i * nTr + j] = NaN;
@@ -485,7 +529,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   const s = integrator.stats;
   const stats: SolverStats = { steps: s.steps, rejected: s.rejected, evaluations: s.evaluations, jacobians: s.jacobians, ms: now() - started };
   const merged = mergedSamples(rec, gridT, nextGrid, nTr);
-  return assemble(c, spec, input, gridT, rec, merged, atLimit, stats, error, { x, maxDev, plantStates, opX, x0: input.x0, atol, complete: !error });
+  return assemble(c, spec, input, gridT, rec, merged, atLimit, stats, error, { x, maxDev, maxDist, plantStates, opX, x0: input.x0, atol, complete: !error });
 }
 
 function algError(e: AlgebraicLoopFailure, c: Compiled): RunError {
@@ -547,6 +591,7 @@ function looksStiff(n: number, jac: (t: number, x: Float64Array, J: Float64Array
 interface Tail {
   x: Float64Array;
   maxDev: Float64Array;
+  maxDist: Float64Array;
   plantStates: number[];
   opX: Float64Array;
   x0: Float64Array;
@@ -578,15 +623,15 @@ function assemble(
     const col = new Array<number>(points);
     for (let i = 0; i < points; i++) col[i] = display(rec.grid[i * nTr + j], tr);
     signals[tr.name] = col;
-    const m = rawMetrics({ t: merged.t, y: merged.y[j] });
+    const m = displayMetrics({ t: merged.t, y: merged.y[j] }, tr, rec.iae[j]);
     const sm: SignalMetrics = {
-      initial: display(m.initial, tr),
-      final: display(m.final, tr),
-      peak: Math.abs(m.peak) / tr.scale,
+      initial: m.initial,
+      final: m.final,
+      peak: m.peak,
       rise: m.rise,
       overshoot: m.overshoot,
       settling: m.settling,
-      iae: rec.iae[j] / tr.scale,
+      iae: m.iae,
     };
     if (tr.limit !== undefined) {
       const iv = atLimit[tr.limit] ?? [];
@@ -595,17 +640,9 @@ function assemble(
     }
     metrics[tr.name] = sm;
   });
-  let recovered = tail.complete;
-  if (recovered) {
-    for (const i of tail.plantStates) {
-      const d0 = Math.abs(tail.x0[i] - tail.opX[i]);
-      const allowed = d0 > 0 ? 0.02 * d0 : tail.atol;
-      if (!(tail.maxDev[i] <= allowed)) {
-        recovered = false;
-        break;
-      }
-    }
-  }
+  const ps = tail.plantStates;
+  const d0 = Float64Array.from(ps, (i) => Math.abs(tail.x0[i] - tail.opX[i]));
+  const recovered = tail.complete && recovers(d0, Float64Array.from(ps, (i) => Math.max(tail.maxDist[i], d0[i])), Float64Array.from(ps, (i) => tail.maxDev[i]), tail.atol);
   const expects = evaluateExpects(c, spec, { traced, t: merged.t, y: merged.y, iae: rec.iae, atLimit, duration, complete: tail.complete });
   const result: RunResult = {
     label: input.label,
