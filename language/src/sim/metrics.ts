@@ -64,8 +64,7 @@ function firstCrossing(s: Samples, level: number, dir: number): number | null {
   return null;
 }
 
-export function riseOf(s: Samples): number | null {
-  const c = changeOf(s);
+export function riseOf(s: Samples, c = changeOf(s)): number | null {
   if (c.still) return null;
   const dir = Math.sign(c.final - c.initial);
   const t10 = firstCrossing(s, c.initial + 0.1 * (c.final - c.initial), dir);
@@ -73,8 +72,7 @@ export function riseOf(s: Samples): number | null {
   return t10 === null || t90 === null ? null : t90 - t10;
 }
 
-export function overshootOf(s: Samples): number | null {
-  const c = changeOf(s);
+export function overshootOf(s: Samples, c = changeOf(s)): number | null {
   if (c.still) return null;
   const dir = Math.sign(c.final - c.initial);
   let worst = 0;
@@ -115,8 +113,8 @@ export function rawMetrics(s: Samples, band = 0.02): RawMetrics {
     initial: c.initial,
     final: c.final,
     peak: peakOf(s),
-    rise: riseOf(s),
-    overshoot: overshootOf(s),
+    rise: riseOf(s, c),
+    overshoot: overshootOf(s, c),
     settling: c.still ? null : settlingOf(s, band * c.delta),
   };
 }

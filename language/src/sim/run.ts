@@ -277,7 +277,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
         if (timeDep[j]) {
           rec.iae[j] += iaeTimeDependent(view, j, a, b);
         } else if (y0 * y1 < 0 || y1 * y2 < 0 || y2 * y3 < 0 || y3 * y4 < 0) {
-          rec.iae[j] += iaeSplit(view, j, a, b, [y0, y1, y2, y3, y4]);
+          rec.iae[j] += iaeSplit(view, j, a, b, y0, y1, y2, y3, y4);
         } else {
           rec.iae[j] += h * (GL3_WEIGHTS[0] * Math.abs(y1) + GL3_WEIGHTS[1] * Math.abs(y2) + GL3_WEIGHTS[2] * Math.abs(y3));
         }
@@ -336,25 +336,62 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
     ev.traced(tc(t), xq, trOne);
     return trOne[j] - off[j];
   };
-  /** ∫|y_j| over [a, b] when y_j changes sign: cut at each sign change between the known values, integrate the pieces. */
-  const iaeSplit = (view: StepView, j: number, a: number, b: number, ys: number[]): number => {
+  /**
+   * ∫|y_j| over [a, b] when y_j changes sign between the five known values (ends and Gauss nodes):
+   * cut at each sign change (located on the dense output) and integrate the pieces by 3-point
+   * Gauss–Legendre. No arrays or closures per call.
+   */
+  const iaeTs = new Float64Array(5), iaeYs = new Float64Array(5), iaeCuts = new Float64Array(6);
+  const iaeSplit = (view: StepView, j: number, a: number, b: number, y0: number, y1: number, y2: number, y3: number, y4: number): number => {
     const h = b - a;
-    const ts = [a, a + GL3_NODES[0] * h, a + GL3_NODES[1] * h, a + GL3_NODES[2] * h, b];
-    const cuts = [a];
+    iaeTs[0] = a;
+    iaeTs[1] = a + GL3_NODES[0] * h;
+    iaeTs[2] = a + GL3_NODES[1] * h;
+    iaeTs[3] = a + GL3_NODES[2] * h;
+    iaeTs[4] = b;
+    iaeYs[0] = y0;
+    iaeYs[1] = y1;
+    iaeYs[2] = y2;
+    iaeYs[3] = y3;
+    iaeYs[4] = y4;
+    let nc = 0;
+    iaeCuts[nc++] = a;
     for (let k = 0; k < 4; k++) {
-      if (ys[k] * ys[k + 1] < 0) {
-        const s0 = Math.sign(ys[k]);
-        cuts.push(locateRoot((t) => s0 * sig(view, j, t), ts[k], Math.abs(ys[k]), ts[k + 1], -Math.abs(ys[k + 1])));
-      }
+      const ya = iaeYs[k], yb = iaeYs[k + 1];
+      if (ya * yb < 0) iaeCuts[nc++] = signRoot(view, j, iaeTs[k], ya, iaeTs[k + 1], yb);
     }
-    cuts.push(b);
+    iaeCuts[nc++] = b;
     let total = 0;
-    for (let k = 0; k + 1 < cuts.length; k++) {
-      const u = cuts[k], hh = cuts[k + 1] - u;
+    for (let k = 0; k + 1 < nc; k++) {
+      const u = iaeCuts[k], hh = iaeCuts[k + 1] - u;
       if (hh <= 0) continue;
-      for (let q = 0; q < 3; q++) total += hh * GL3_WEIGHTS[q] * Math.abs(sig(view, j, u + GL3_NODES[q] * hh));
+      total += hh * (GL3_WEIGHTS[0] * Math.abs(sig(view, j, u + GL3_NODES[0] * hh)) + GL3_WEIGHTS[1] * Math.abs(sig(view, j, u + GL3_NODES[1] * hh)) + GL3_WEIGHTS[2] * Math.abs(sig(view, j, u + GL3_NODES[2] * hh)));
     }
     return total;
+  };
+  /** Sign change of y_j in [ta, tb] (ya·yb < 0) on the dense output: Illinois regula falsi. */
+  const signRoot = (view: StepView, j: number, ta: number, ya: number, tb: number, yb: number): number => {
+    const tolT = 1e-13 * Math.max(1, Math.abs(ta), Math.abs(tb));
+    let side = 0;
+    for (let it = 0; it < 60 && tb - ta > tolT; it++) {
+      let tm = (ta * yb - tb * ya) / (yb - ya);
+      if (!(tm > ta && tm < tb)) tm = 0.5 * (ta + tb);
+      const ym = sig(view, j, tm);
+      if (ym === 0) return tm;
+      if (ym * ya < 0) {
+        tb = tm;
+        yb = ym;
+        if (side === -1) ya /= 2;
+        side = -1;
+      } else {
+        ta = tm;
+        ya = ym;
+        if (side === 1) yb /= 2;
+        side = 1;
+      }
+      if (Math.abs(ym) <= 1e-14 * (Math.abs(ya) + Math.abs(yb))) return tm;
+    }
+    return 0.5 * (ta + tb);
   };
 
   // ---- stops: breakpoints and sample instants ----
