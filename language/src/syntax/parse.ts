@@ -6,7 +6,7 @@ import { DiagnosticSink, type Span } from '../diagnostics';
 import type { Expr, FileAst } from './ast';
 import { getParser } from './parser';
 import { AstBuilder } from './to-ast';
-import { loopLexer, UnitLit, UnterminatedString } from './tokens';
+import { LBracket, LCurly, loopLexer, LParen, RBracket, RCurly, RParen, UnitLit, UnterminatedString } from './tokens';
 
 export interface ParseResult {
   ast: FileAst;
@@ -57,10 +57,10 @@ function dropDeepNesting(tokens: IToken[], sink: DiagnosticSink): IToken[] {
   let depth = 0;
   let max = 0;
   for (const t of tokens) {
-    const n = t.tokenType.name;
-    if (n === 'LParen' || n === 'LBracket') max = Math.max(max, ++depth);
-    else if (n === 'RParen' || n === 'RBracket') depth = Math.max(0, depth - 1);
-    else if (n === 'LCurly' || n === 'RCurly') depth = 0;
+    const tt = t.tokenType;
+    if (tt === LParen || tt === LBracket) max = Math.max(max, ++depth);
+    else if (tt === RParen || tt === RBracket) depth = Math.max(0, depth - 1);
+    else if (tt === LCurly || tt === RCurly) depth = 0;
   }
   if (max <= MAX_BRACKET_DEPTH) return tokens;
   const kept: IToken[] = [];

@@ -241,14 +241,13 @@ export class AstBuilder {
   private flatExpression(c: Children, span: Span): A.Expr {
     const operands = nodes(c, 'operands');
     const ops = tokens(c, 'ops');
-    const prefixes = operands.map((o) => tokens(o.children as Children, 'prefix'));
     let pos = 0; // operand being read; ops[pos] follows operands[pos]
     let pre = 0; // prefix operators of operands[pos] already read
     const empty = (at: number): A.Expr => ({ kind: 'error', span: { start: at, end: at } });
     const atom = (): A.Expr => {
       const o = operands[pos];
       if (!o) return empty(span.end);
-      const pfx = prefixes[pos];
+      const pfx = tokens(o.children as Children, 'prefix');
       if (pre < pfx.length) {
         const t = pfx[pre++];
         const op: A.UnaryOp = t.image === 'not' ? 'not' : t.image === '+' ? '+' : '-';
@@ -298,7 +297,7 @@ export class AstBuilder {
       if (unit) return { kind: 'quantity', span: { start: numberSpan.start, end: unit.outer.end }, value, text: num.image, numberSpan, unit };
       return { kind: 'number', span: numberSpan, value, text: num.image };
     }
-    for (const key of ['nameExpr', 'listExpr', 'ifExpr']) {
+    for (const key of PRIMARY_KINDS) {
       const sub = nodes(c, key)[0];
       if (sub) return this.expr(sub, span);
     }
@@ -346,6 +345,9 @@ export class AstBuilder {
     return { kind: 'list', span, items };
   }
 }
+
+/** Rules a primary may consist of, in the order they are looked for. */
+const PRIMARY_KINDS = ['nameExpr', 'listExpr', 'ifExpr'] as const;
 
 const BINDING: Record<A.BinaryOp, number> = {
   or: 1,
