@@ -8,11 +8,13 @@
 
 import type { Compiled } from '../model/compile';
 import { AlgebraicLoopFailure } from '../model/loop';
-import { LimitMode, type TracedSignal } from '../model/types';
+import { LimitMode, type LoopEvaluator, type TracedSignal } from '../model/types';
 import type { LoopRunReport, RunError, RunResult, SignalInfo, SignalMetrics, SolverStats } from '../protocol';
-import { createIntegrator, type IntegratorMethod, type SegmentResult, type StepView } from './solver';
+import { createIntegrator, type Integrator, type IntegratorMethod, type SegmentResult, type StepView } from './solver';
 import { eventValue, hysteresis, locateRoot, modeFor, nextMode } from './events';
-import { GL3_NODES, GL3_WEIGHTS, displayMetrics, recovers } from './metrics';
+import { GL3_NODES, GL3_WEIGHTS, rawMetrics, recovers } from './metrics';
+
+const GL3_N0 = GL3_NODES[0], GL3_N1 = GL3_NODES[1], GL3_N2 = GL3_NODES[2];
 import { evaluateExpects } from './metrics';
 import { runSpec, type RunSpec } from './sweep';
 
@@ -41,46 +43,245 @@ export interface RunInput {
   x0: Float64Array;
 }
 
-/** Samples of every traced signal: grid values (SI) and the ends of accepted steps, for metrics. */
-interface Recorder {
-  grid: Float64Array; // points × nTr
-  /** Step-end (and post-breakpoint) samples: times and values, row-major nTr per sample; grown by doubling. */
-  stepT: Float64Array;
+/**
+ * Everything a run of one compiled loop needs besides its inputs, made once per loop and reused
+ * by each run: the evaluator (generated functions bound to a param vector, rebound only when the
+ * params change), the integrator (rebuilt only when the method or tolerances change), and every
+ * buffer: grid, step-end samples, traced-value and event scratch, merged samples for the metrics.
+ * Runs of one loop on one thread never overlap, so one set serves them all.
+ */
+class RunDriver {
+  readonly n: number;
+  readonly nTr: number;
+  readonly nLim: number;
+  ev: LoopEvaluator | undefined;
+  private evP: Float64Array | undefined;
+  integrator: Integrator | undefined;
+  private integKey = '';
+  /** Left limit at a breakpoint: evaluations at t ≥ tCap take the time tBelow (see runOnce). */
+  tCap = Infinity;
+  tBelow = Infinity;
+  algFailure: AlgebraicLoopFailure | undefined;
+  // state and traced-value scratch
+  readonly x: Float64Array;
+  readonly xq: Float64Array;
+  readonly xEvent: Float64Array;
+  readonly trBuf: Float64Array;
+  readonly trPrev: Float64Array;
+  readonly trNode0: Float64Array;
+  readonly trNode1: Float64Array;
+  readonly trNode2: Float64Array;
+  readonly trOne: Float64Array;
+  readonly iae: Float64Array;
+  readonly off: Float64Array;
+  // limit scratch
+  readonly pre: Float64Array;
+  readonly lo: Float64Array;
+  readonly hi: Float64Array;
+  readonly pre2: Float64Array;
+  readonly lo2: Float64Array;
+  readonly hi2: Float64Array;
+  readonly isSampledLimit: Uint8Array;
+  readonly sampledAt: Uint8Array;
+  readonly atLimitSince: Float64Array;
+  readonly evLimits: Int32Array;
+  // recovery
+  readonly plantStates: number[] = [];
+  readonly opX: Float64Array;
+  readonly maxDev: Float64Array;
+  readonly maxDist: Float64Array;
+  // IAE split scratch
+  readonly iaeTs = new Float64Array(5);
+  readonly iaeYs = new Float64Array(5);
+  readonly iaeCuts = new Float64Array(6);
+  // grid: times for (points, tEnd), values points × nTr
+  gridT = new Float64Array(0);
+  grid = new Float64Array(0);
+  private gridEnd = NaN;
+  // step-end (and post-breakpoint) samples, row-major nTr per sample; grown by doubling
+  stepT = new Float64Array(256);
   stepY: Float64Array;
-  nStep: number;
-  iae: Float64Array;
+  nStep = 0;
+  // grid and step-end samples merged in time order; my holds one row of `cap` per signal
+  mt = new Float64Array(0);
+  my = new Float64Array(0);
+  mCap = 0;
+  /** Display values of one signal for its metrics. */
+  disp = new Float64Array(0);
+  readonly rhs: (t: number, x: Float64Array, dx: Float64Array) => void;
+  readonly jac: (t: number, x: Float64Array, J: Float64Array) => void;
+
+  constructor(readonly c: Compiled) {
+    const n = c.n, nTr = c.traced.length, nLim = c.limits.length;
+    this.n = n;
+    this.nTr = nTr;
+    this.nLim = nLim;
+    this.x = new Float64Array(n);
+    this.xq = new Float64Array(n);
+    this.xEvent = new Float64Array(n);
+    this.trBuf = new Float64Array(nTr);
+    this.trPrev = new Float64Array(nTr);
+    this.trNode0 = new Float64Array(nTr);
+    this.trNode1 = new Float64Array(nTr);
+    this.trNode2 = new Float64Array(nTr);
+    this.trOne = new Float64Array(nTr);
+    this.iae = new Float64Array(nTr);
+    this.off = Float64Array.from(c.traced, (tr) => tr.offset);
+    this.pre = new Float64Array(nLim);
+    this.lo = new Float64Array(nLim);
+    this.hi = new Float64Array(nLim);
+    this.pre2 = new Float64Array(nLim);
+    this.lo2 = new Float64Array(nLim);
+    this.hi2 = new Float64Array(nLim);
+    this.isSampledLimit = new Uint8Array(nLim);
+    for (const l of c.limits) if (l.sampled) this.isSampledLimit[l.index] = 1;
+    this.sampledAt = new Uint8Array(nLim);
+    this.atLimitSince = new Float64Array(nLim);
+    this.evLimits = Int32Array.from(c.limits.filter((l) => !l.sampled).map((l) => l.index));
+    this.opX = new Float64Array(n);
+    for (const inst of c.instances) {
+      if (inst.system.kind !== 'plant') continue;
+      const pt = c.around.get(inst.system.instance);
+      for (let i = 0; i < inst.system.states.length; i++) {
+        this.plantStates.push(inst.xOffset + i);
+        this.opX[inst.xOffset + i] = pt && i < inst.system.declaredStates ? pt.x[i] : 0;
+      }
+    }
+    this.maxDev = new Float64Array(n);
+    this.maxDist = new Float64Array(n);
+    this.stepY = new Float64Array(256 * nTr);
+    const withAlg = c.algebraicLoops.length > 0;
+    this.rhs = (tt, xx, dx) => {
+      const ev = this.ev!;
+      const te = tt < this.tCap ? tt : this.tBelow;
+      if (!withAlg) {
+        ev.rhs(te, xx, dx);
+        return;
+      }
+      try {
+        ev.rhs(te, xx, dx);
+      } catch (e) {
+        if (e instanceof AlgebraicLoopFailure) this.algFailure = e;
+        throw e;
+      }
+    };
+    this.jac = (tt, xx, J) => this.ev!.jac(tt < this.tCap ? tt : this.tBelow, xx, J);
+  }
+
+  /** The evaluator for param vector p, reset for a new run (modes, held outputs, sampled limits). */
+  evaluatorFor(p: Float64Array): LoopEvaluator {
+    // a loop with algebraic loops keeps Newton's last iterate in its evaluator: a fresh one per run
+    const reuse = this.ev !== undefined && this.evP !== undefined && this.c.algebraicLoops.length === 0 && sameValues(this.evP, p);
+    if (!reuse) {
+      this.ev = this.c.evaluator(p);
+      this.evP = Float64Array.from(p);
+    } else {
+      const ev = this.ev!;
+      ev.modes.fill(LimitMode.CLAMP);
+      ev.held.fill(0);
+      ev.sampledLimits.pre.fill(0);
+      ev.sampledLimits.lo.fill(0);
+      ev.sampledLimits.hi.fill(0);
+    }
+    return this.ev!;
+  }
+
+  integratorFor(method: IntegratorMethod, rtol: number, atol: number): Integrator {
+    const key = `${method}|${rtol}|${atol}`;
+    if (!this.integrator || key !== this.integKey) {
+      this.integrator = createIntegrator(method, { n: this.n, f: this.rhs, jac: this.jac }, { rtol, atol, maxSteps: 200000 });
+      this.integKey = key;
+    }
+    this.integrator.resetStats();
+    return this.integrator;
+  }
+
+  /** Grid times and value buffer for `points` points on [0, tEnd]. */
+  gridFor(points: number, tEnd: number): void {
+    if (this.gridT.length !== points || this.gridEnd !== tEnd) {
+      this.gridT = new Float64Array(points);
+      for (let i = 0; i < points; i++) this.gridT[i] = i === points - 1 ? tEnd : (tEnd * i) / (points - 1);
+      this.gridEnd = tEnd;
+    }
+    if (this.grid.length !== points * this.nTr) this.grid = new Float64Array(points * this.nTr);
+  }
+
+  recordSample(t: number, tr: Float64Array): void {
+    const nTr = this.nTr;
+    if (this.nStep === this.stepT.length) {
+      const T2 = new Float64Array(this.stepT.length * 2), Y2 = new Float64Array(this.stepY.length * 2);
+      T2.set(this.stepT);
+      Y2.set(this.stepY);
+      this.stepT = T2;
+      this.stepY = Y2;
+    }
+    const k = this.nStep++;
+    this.stepT[k] = t;
+    const Y = this.stepY;
+    for (let j = 0, o = k * nTr; j < nTr; j++) Y[o + j] = tr[j];
+  }
+
+  writeGrid(i: number, tr: Float64Array): void {
+    const G = this.grid;
+    for (let j = 0, o = i * this.nTr; j < this.nTr; j++) G[o + j] = tr[j];
+  }
+
+  /** Merges the first `filled` grid points with the step-end samples into mt / my; returns the count. */
+  merge(filled: number): number {
+    const nTr = this.nTr, nStep = this.nStep, gridT = this.gridT, grid = this.grid, stepT = this.stepT, stepY = this.stepY;
+    const need = filled + nStep;
+    if (need > this.mCap) {
+      this.mCap = Math.max(need, 2 * this.mCap);
+      this.mt = new Float64Array(this.mCap);
+      this.my = new Float64Array(this.mCap * nTr);
+      this.disp = new Float64Array(this.mCap);
+    }
+    const t = this.mt, y = this.my, cap = this.mCap;
+    let i = 0, k = 0, m = 0;
+    while (i < filled || k < nStep) {
+      const useGrid = k >= nStep || (i < filled && gridT[i] <= stepT[k]);
+      if (useGrid) {
+        if (k < nStep && gridT[i] === stepT[k]) k++;
+        t[m] = gridT[i];
+        for (let j = 0, o = i * nTr; j < nTr; j++) y[j * cap + m] = grid[o + j];
+        i++;
+      } else {
+        t[m] = stepT[k];
+        for (let j = 0, o = k * nTr; j < nTr; j++) y[j * cap + m] = stepY[o + j];
+        k++;
+      }
+      m++;
+    }
+    return m;
+  }
 }
 
-/** Grid and step-end samples merged in time order, one array per traced signal. */
-function mergedSamples(rec: Recorder, gridT: Float64Array, filled: number, nTr: number): { t: Float64Array; y: Float64Array[] } {
-  const cap = filled + rec.nStep;
-  const t = new Float64Array(cap);
-  const y = Array.from({ length: nTr }, () => new Float64Array(cap));
-  let i = 0, k = 0, n = 0;
-  while (i < filled || k < rec.nStep) {
-    const useGrid = k >= rec.nStep || (i < filled && gridT[i] <= rec.stepT[k]);
-    if (useGrid) {
-      if (k < rec.nStep && gridT[i] === rec.stepT[k]) k++;
-      t[n] = gridT[i];
-      for (let j = 0; j < nTr; j++) y[j][n] = rec.grid[i * nTr + j];
-      i++;
-    } else {
-      t[n] = rec.stepT[k];
-      for (let j = 0; j < nTr; j++) y[j][n] = rec.stepY[k * nTr + j];
-      k++;
-    }
-    n++;
-  }
-  return { t: t.subarray(0, n), y: y.map((a) => a.subarray(0, n)) };
+function sameValues(a: Float64Array, b: Float64Array): boolean {
+  if (a.length !== b.length) return false;
+  for (let i = 0; i < a.length; i++) if (!Object.is(a[i], b[i])) return false;
+  return true;
 }
+
+const drivers = new WeakMap<Compiled, RunDriver>();
+
+function driverFor(c: Compiled): RunDriver {
+  let d = drivers.get(c);
+  if (!d) {
+    d = new RunDriver(c);
+    drivers.set(c, d);
+  }
+  return d;
+}
+
+const downF = new Float64Array(1);
+const downI = new BigInt64Array(downF.buffer);
 
 /** The largest double below v (v finite and positive). */
 function prevDown(v: number): number {
   if (v === 0) return -Number.MIN_VALUE;
-  const b = new Float64Array([v]);
-  const u = new BigInt64Array(b.buffer);
-  u[0] += v > 0 ? -1n : 1n;
-  return b[0];
+  downF[0] = v;
+  downI[0] += v > 0 ? -1n : 1n;
+  return downF[0];
 }
 
 const now = (): number => (typeof performance !== 'undefined' ? performance.now() : Date.now());
@@ -93,7 +294,8 @@ export function fmtTime(t: number): string {
 export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOptions = {}): RunResult {
   const started = now();
   const n = c.n;
-  const ev = c.evaluator(input.p);
+  const d = driverFor(c);
+  const ev = d.evaluatorFor(input.p);
   const tEnd = spec.duration;
   const points = Math.max(2, Math.floor(opts.points ?? spec.points));
   const rtol = opts.tolerance ?? spec.rtol;
@@ -105,27 +307,33 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   const nTr = traced.length;
 
   // limits that switch by events (continuous ones)
-  const nLim = c.limits.length;
-  const evLimits = c.limits.filter((l) => !l.sampled).map((l) => l.index);
-  const pre = new Float64Array(nLim), lo = new Float64Array(nLim), hi = new Float64Array(nLim);
-  const pre2 = new Float64Array(nLim), lo2 = new Float64Array(nLim), hi2 = new Float64Array(nLim);
+  const nLim = d.nLim;
+  const evLimits = d.evLimits;
+  const nEv = evLimits.length;
+  const pre = d.pre, lo = d.lo, hi = d.hi;
+  const pre2 = d.pre2, lo2 = d.lo2, hi2 = d.hi2;
   const modes = ev.modes;
-  for (const k of evLimits) modes[k] = LimitMode.FREE;
+  for (let e = 0; e < nEv; e++) modes[evLimits[e]] = LimitMode.FREE;
   // limits inside sampled controllers: at their limit from one sample instant to the next
-  const isSampledLimit = new Uint8Array(nLim);
-  for (const l of c.limits) if (l.sampled) isSampledLimit[l.index] = 1;
-  const sampledAt = new Uint8Array(nLim);
-  const atLimitSince = new Float64Array(nLim).fill(NaN);
-  const atLimit: Array<Array<[number, number]>> = Array.from({ length: nLim }, () => []);
+  const isSampledLimit = d.isSampledLimit;
+  const sampledAt = d.sampledAt;
+  sampledAt.fill(0);
+  const atLimitSince = d.atLimitSince;
+  atLimitSince.fill(NaN);
+  const atLimit: Array<Array<[number, number]>> = [];
+  for (let k = 0; k < nLim; k++) atLimit.push([]);
 
-  const x = Float64Array.from(input.x0);
-  const xq = new Float64Array(n);
-  const trBuf = new Float64Array(nTr);
-  const trPrev = new Float64Array(nTr);
-  const trNode = [new Float64Array(nTr), new Float64Array(nTr), new Float64Array(nTr)];
-  const rec: Recorder = { grid: new Float64Array(points * nTr), stepT: new Float64Array(256), stepY: new Float64Array(256 * nTr), nStep: 0, iae: new Float64Array(nTr) };
-  const gridT = new Float64Array(points);
-  for (let i = 0; i < points; i++) gridT[i] = i === points - 1 ? tEnd : (tEnd * i) / (points - 1);
+  const x = d.x;
+  x.set(input.x0.subarray(0, n));
+  const xq = d.xq;
+  const trBuf = d.trBuf;
+  const trPrev = d.trPrev;
+  const trNode0 = d.trNode0, trNode1 = d.trNode1, trNode2 = d.trNode2;
+  const iae = d.iae;
+  iae.fill(0);
+  d.nStep = 0;
+  d.gridFor(points, tEnd);
+  const gridT = d.gridT;
   let nextGrid = 0;
 
   // Within a segment that ends on a breakpoint b, every evaluation at t ≥ b takes the left limit
@@ -133,23 +341,12 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   // output and the event functions there all belong to the segment before the edge. The values
   // after the edge (right-continuous) are taken once the segment has ended, with the limit modes
   // settled for them.
-  let tCap = Infinity, tBelow = Infinity;
-  const tc = (tt: number): number => (tt < tCap ? tt : tBelow);
+  // (the integrator's right-hand side and Jacobian read d.tCap / d.tBelow)
+  d.tCap = d.tBelow = Infinity;
+  const tc = (tt: number): number => (tt < d.tCap ? tt : d.tBelow);
 
-  let algFailure: AlgebraicLoopFailure | undefined;
-  const rhs0 = c.algebraicLoops.length
-    ? (t: number, xx: Float64Array, dx: Float64Array) => {
-        try {
-          ev.rhs(t, xx, dx);
-        } catch (e) {
-          if (e instanceof AlgebraicLoopFailure) algFailure = e;
-          throw e;
-        }
-      }
-    : ev.rhs;
-  const rhs = (tt: number, xx: Float64Array, dx: Float64Array) => rhs0(tt < tCap ? tt : tBelow, xx, dx);
-  const jac = (tt: number, xx: Float64Array, J: Float64Array) => ev.jac(tt < tCap ? tt : tBelow, xx, J);
-  const integrator = createIntegrator(method, { n, f: rhs, jac }, { rtol, atol, maxSteps: 200000 });
+  d.algFailure = undefined;
+  const integrator = d.integratorFor(method, rtol, atol);
 
   let error: RunError | undefined;
   const stateName = (i: number | undefined) => (i !== undefined && i >= 0 && i < n ? c.states[i].qualified : undefined);
@@ -175,12 +372,13 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   };
 
   const settleModes = (t: number, xs: Float64Array) => {
-    if (!evLimits.length) return;
-    for (const k of evLimits) modes[k] = LimitMode.FREE;
-    for (let it = 0; it <= evLimits.length + 1; it++) {
+    if (!nEv) return;
+    for (let e = 0; e < nEv; e++) modes[evLimits[e]] = LimitMode.FREE;
+    for (let it = 0; it <= nEv + 1; it++) {
       safeLimits(t, xs, pre, lo, hi);
       let changed = false;
-      for (const k of evLimits) {
+      for (let e = 0; e < nEv; e++) {
+        const k = evLimits[e];
         const m = modeFor(pre[k], lo[k], hi[k]);
         if (m !== modes[k]) {
           modes[k] = m;
@@ -204,48 +402,26 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
     }
   };
 
-  const recordSample = (t: number, tr: Float64Array) => {
-    if (rec.nStep === rec.stepT.length) {
-      const T2 = new Float64Array(rec.stepT.length * 2), Y2 = new Float64Array(rec.stepY.length * 2);
-      T2.set(rec.stepT);
-      Y2.set(rec.stepY);
-      rec.stepT = T2;
-      rec.stepY = Y2;
-    }
-    const k = rec.nStep++;
-    rec.stepT[k] = t;
-    const Y = rec.stepY;
-    for (let j = 0, o = k * nTr; j < nTr; j++) Y[o + j] = tr[j];
-  };
-  const writeGrid = (i: number, tr: Float64Array) => {
-    const G = rec.grid;
-    for (let j = 0, o = i * nTr; j < nTr; j++) G[o + j] = tr[j];
-  };
-
   // recovery: deviation of plant states from the operating point over the last tenth
-  const plantStates: number[] = [];
-  const opX = new Float64Array(n);
-  for (const inst of c.instances) {
-    if (inst.system.kind !== 'plant') continue;
-    const pt = c.around.get(inst.system.instance);
-    for (let i = 0; i < inst.system.states.length; i++) {
-      plantStates.push(inst.xOffset + i);
-      opX[inst.xOffset + i] = pt && i < inst.system.declaredStates ? pt.x[i] : 0;
-    }
-  }
-  const maxDev = new Float64Array(n); // largest distance over the last tenth
-  const maxDist = new Float64Array(n); // largest distance over the run
+  const plantStates = d.plantStates;
+  const nPlant = plantStates.length;
+  const opX = d.opX;
+  const maxDev = d.maxDev; // largest distance over the last tenth
+  const maxDist = d.maxDist; // largest distance over the run
+  maxDev.fill(0);
+  maxDist.fill(0);
   const tTail = 0.9 * tEnd;
   const noteTail = (t: number, xs: Float64Array) => {
     const tail = t >= tTail;
-    for (const i of plantStates) {
+    for (let q = 0; q < nPlant; q++) {
+      const i = plantStates[q];
       const d = Math.abs(xs[i] - opX[i]);
       if (d > maxDist[i]) maxDist[i] = d;
       if (tail && d > maxDev[i]) maxDev[i] = d;
     }
   };
   // IAE of a signal is taken from its unit's zero: ∫|y − offset| dt (degC signals in degC·s)
-  const off = Float64Array.from(traced, (tr) => tr.offset);
+  const off = d.off;
 
   // ---- one interval [a, b] of a step, with its dense output ----
   const processInterval = (view: StepView, a: number, b: number, xb: Float64Array) => {
@@ -260,30 +436,32 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
         view.dense(tg, xq);
         ev.traced(tg, xq, trBuf);
       }
-      writeGrid(nextGrid, trBuf);
+      d.writeGrid(nextGrid, trBuf);
       nextGrid++;
     }
     // IAE by 3-point Gauss–Legendre on the dense output; split where a signal changes sign
     const h = b - a;
     ev.traced(tc(b), xb, trBuf);
     if (h > 0 && nTr > 0) {
-      for (let q = 0; q < 3; q++) {
-        view.dense(a + GL3_NODES[q] * h, xq);
-        ev.traced(a + GL3_NODES[q] * h, xq, trNode[q]);
-      }
+      view.dense(a + GL3_N0 * h, xq);
+      ev.traced(a + GL3_N0 * h, xq, trNode0);
+      view.dense(a + GL3_N1 * h, xq);
+      ev.traced(a + GL3_N1 * h, xq, trNode1);
+      view.dense(a + GL3_N2 * h, xq);
+      ev.traced(a + GL3_N2 * h, xq, trNode2);
       for (let j = 0; j < nTr; j++) {
         const o = off[j];
-        const y0 = trPrev[j] - o, y1 = trNode[0][j] - o, y2 = trNode[1][j] - o, y3 = trNode[2][j] - o, y4 = trBuf[j] - o;
+        const y0 = trPrev[j] - o, y1 = trNode0[j] - o, y2 = trNode1[j] - o, y3 = trNode2[j] - o, y4 = trBuf[j] - o;
         if (timeDep[j]) {
-          rec.iae[j] += iaeTimeDependent(view, j, a, b);
+          iae[j] += iaeTimeDependent(view, j, a, b);
         } else if (y0 * y1 < 0 || y1 * y2 < 0 || y2 * y3 < 0 || y3 * y4 < 0) {
-          rec.iae[j] += iaeSplit(view, j, a, b, y0, y1, y2, y3, y4);
+          iae[j] += iaeSplit(view, j, a, b, y0, y1, y2, y3, y4);
         } else {
-          rec.iae[j] += h * (GL3_WEIGHTS[0] * Math.abs(y1) + GL3_WEIGHTS[1] * Math.abs(y2) + GL3_WEIGHTS[2] * Math.abs(y3));
+          iae[j] += h * (GL3_WEIGHTS[0] * Math.abs(y1) + GL3_WEIGHTS[1] * Math.abs(y2) + GL3_WEIGHTS[2] * Math.abs(y3));
         }
       }
     }
-    if (!deferB) recordSample(b, trBuf);
+    if (!deferB) d.recordSample(b, trBuf);
     trPrev.set(trBuf);
     noteTail(b, xb);
   };
@@ -291,13 +469,13 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   const afterStop = (ts: number, xs: Float64Array) => {
     ev.traced(ts, xs, trBuf);
     while (nextGrid < points && gridT[nextGrid] <= ts) {
-      writeGrid(nextGrid, trBuf);
+      d.writeGrid(nextGrid, trBuf);
       nextGrid++;
     }
-    recordSample(ts, trBuf);
+    d.recordSample(ts, trBuf);
     trPrev.set(trBuf);
   };
-  const trOne = new Float64Array(nTr);
+  const trOne = d.trOne;
   const timeDep = c.tracedTimeDependent;
   /** ∫|y_j| for a signal that varies with time directly (the step size does not follow it): bisect until 3-point rules agree. */
   const gl3 = (view: StepView, j: number, a: number, b: number) => {
@@ -314,8 +492,10 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
       const tb = k === K ? b : a + ((b - a) * k) / K;
       const vb = sig(view, j, tb);
       if (va * vb < 0) {
-        const s0 = Math.sign(va);
-        const r = locateRoot((t) => s0 * sig(view, j, t), ta, Math.abs(va), tb, -Math.abs(vb));
+        sigView = view;
+        sigJ = j;
+        sigSign = Math.sign(va);
+        const r = locateRoot(signedSig, ta, Math.abs(va), tb, -Math.abs(vb));
         if (r > from) total += iaeAdaptive(view, j, from, r, 0);
         from = r;
       }
@@ -331,6 +511,8 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
     if (depth >= 14 || Math.abs(left + right - whole) <= 1e-12 * (b - a) + rtol * 1e-3 * Math.abs(left + right)) return left + right;
     return iaeAdaptive(view, j, a, m, depth + 1, left) + iaeAdaptive(view, j, m, b, depth + 1, right);
   };
+  let sigView: StepView | undefined, sigJ = 0, sigSign = 1;
+  const signedSig = (t: number) => sigSign * sig(sigView!, sigJ, t);
   const sig = (view: StepView, j: number, t: number) => {
     view.dense(t, xq);
     ev.traced(tc(t), xq, trOne);
@@ -341,7 +523,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
    * cut at each sign change (located on the dense output) and integrate the pieces by 3-point
    * Gauss–Legendre. No arrays or closures per call.
    */
-  const iaeTs = new Float64Array(5), iaeYs = new Float64Array(5), iaeCuts = new Float64Array(6);
+  const iaeTs = d.iaeTs, iaeYs = d.iaeYs, iaeCuts = d.iaeCuts;
   const iaeSplit = (view: StepView, j: number, a: number, b: number, y0: number, y1: number, y2: number, y3: number, y4: number): number => {
     const h = b - a;
     iaeTs[0] = a;
@@ -396,24 +578,28 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
 
   // ---- stops: breakpoints and sample instants ----
   const bps = ev.breakpoints().filter((t) => t > 0 && t < tEnd);
-  const periods = c.sampled.map((_, k) => c.periodOf(k, input.p));
-  const nextSample = periods.map(() => 1);
+  const nSampled = c.sampled.length;
+  const periods = new Float64Array(nSampled);
+  for (let k = 0; k < nSampled; k++) periods[k] = c.periodOf(k, input.p);
+  const nextSample = new Float64Array(nSampled).fill(1);
   let bpi = 0;
   const nextStop = (t: number): number => {
     let s = tEnd;
     while (bpi < bps.length && bps[bpi] <= t * (1 + 1e-15) + 1e-300) bpi++;
     if (bpi < bps.length) s = Math.min(s, bps[bpi]);
-    periods.forEach((T, k) => {
+    for (let k = 0; k < nSampled; k++) {
+      const T = periods[k];
       while (nextSample[k] * T <= t + 1e-12 * Math.max(1, t)) nextSample[k]++;
       s = Math.min(s, nextSample[k] * T);
-    });
+    }
     return s;
   };
   const sampleDue = (t: number) => {
-    periods.forEach((T, k) => {
+    for (let k = 0; k < nSampled; k++) {
+      const T = periods[k];
       const j = Math.round(t / T);
       if (Math.abs(j * T - t) <= 1e-12 * Math.max(1, t)) ev.sample(k, t, x);
-    });
+    }
     const sl = ev.sampledLimits;
     for (let k = 0; k < nLim; k++) if (isSampledLimit[k]) sampledAt[k] = sl.pre[k] > sl.hi[k] || sl.pre[k] < sl.lo[k] ? 1 : 0;
   };
@@ -422,7 +608,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   let t = 0;
   let stopped: 'cancel' | 'budget' | null = null;
   let eventAt = NaN, eventLimit = -1;
-  const xEvent = new Float64Array(n);
+  const xEvent = d.xEvent;
   try {
     sampleDue(0);
     settleModes(0, x);
@@ -438,12 +624,19 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
     }
   }
   if (!error) {
-    writeGrid(0, trBuf);
+    d.writeGrid(0, trBuf);
     nextGrid = 1;
     trPrev.set(trBuf);
     noteTail(0, x);
   }
 
+  /** Event function of limit gK on the dense output of step gView. */
+  let gView: StepView | undefined, gK = 0;
+  const g = (tq: number) => {
+    gView!.dense(tq, xq);
+    ev.limitValues(tc(tq), xq, pre2, lo2, hi2);
+    return eventValue(modes[gK], pre2[gK], lo2[gK], hi2[gK]);
+  };
   const onStep = (view: StepView): 'continue' | 'stop' => {
     if (cancel?.cancelled) {
       stopped = 'cancel';
@@ -455,17 +648,15 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
       processInterval(view, view.tPrev, view.t, view.x);
       return 'stop';
     }
-    if (evLimits.length) {
+    if (nEv) {
       ev.limitValues(tc(view.t), view.x, pre, lo, hi);
       let tFirst = Infinity, kFirst = -1;
-      for (const k of evLimits) {
+      for (let e = 0; e < nEv; e++) {
+        const k = evLimits[e];
         const gEnd = eventValue(modes[k], pre[k], lo[k], hi[k]);
         if (gEnd < -hysteresis(lo[k], hi[k])) {
-          const g = (tq: number) => {
-            view.dense(tq, xq);
-            ev.limitValues(tc(tq), xq, pre2, lo2, hi2);
-            return eventValue(modes[k], pre2[k], lo2[k], hi2[k]);
-          };
+          gView = view;
+          gK = k;
           const ga = Math.max(0, g(view.tPrev));
           const r = ga === 0 ? view.tPrev : locateRoot(g, view.tPrev, ga, view.t, gEnd);
           if (r < tFirst) {
@@ -497,18 +688,18 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
     eventAt = NaN;
     eventLimit = -1;
     let res: SegmentResult;
-    tCap = stop < tEnd ? stop : Infinity;
-    tBelow = stop < tEnd ? prevDown(stop) : Infinity;
+    d.tCap = stop < tEnd ? stop : Infinity;
+    d.tBelow = stop < tEnd ? prevDown(stop) : Infinity;
     try {
       res = integrator.integrate(t, x, stop, onStep, h0);
     } catch (e) {
-      tCap = tBelow = Infinity;
+      d.tCap = d.tBelow = Infinity;
       error = { code: 'LW701', message: `the run failed at t = ${fmtTime(t)}: ${(e as Error).message}`, time: t };
       break;
     }
-    tCap = tBelow = Infinity;
+    d.tCap = d.tBelow = Infinity;
     if (res.status === 'failed') {
-      error = failureError(res, c, algFailure, method, integrator.stats.steps, t, fastestState, ev.jac);
+      error = failureError(res, c, d.algFailure, method, integrator.stats.steps, t, fastestState, ev.jac);
       break;
     }
     if (stopped) {
@@ -561,12 +752,12 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   for (let k = 0; k < nLim; k++) if (!Number.isNaN(atLimitSince[k]) && t > atLimitSince[k]) atLimit[k].push([atLimitSince[k], t]);
 
   // grid points not reached (failed runs) stay NaN
-  for (let i = nextGrid; i < points; i++) for (let j = 0; j < nTr; j++) rec.grid[i * nTr + j] = NaN;
+  for (let i = nextGrid; i < points; i++) for (let j = 0; j < nTr; j++) d.grid[i * nTr + j] = NaN;
 
   const s = integrator.stats;
   const stats: SolverStats = { steps: s.steps, rejected: s.rejected, evaluations: s.evaluations, jacobians: s.jacobians, ms: now() - started };
-  const merged = mergedSamples(rec, gridT, nextGrid, nTr);
-  return assemble(c, spec, input, gridT, rec, merged, atLimit, stats, error, { x, maxDev, maxDist, plantStates, opX, x0: input.x0, atol, complete: !error });
+  const nMerged = d.merge(nextGrid);
+  return assemble(d, spec, input, nMerged, atLimit, stats, error, { x, maxDev, maxDist, plantStates, opX, x0: input.x0, atol, complete: !error });
 }
 
 function algError(e: AlgebraicLoopFailure, c: Compiled): RunError {
@@ -637,30 +828,39 @@ interface Tail {
 }
 
 function assemble(
-  c: Compiled,
+  d: RunDriver,
   spec: RunSpec,
   input: RunInput,
-  gridT: Float64Array,
-  rec: Recorder,
-  merged: { t: Float64Array; y: Float64Array[] },
+  nMerged: number,
   atLimit: Array<Array<[number, number]>>,
   stats: SolverStats,
   error: RunError | undefined,
   tail: Tail,
 ): RunResult {
+  const c = d.c;
   const traced = c.traced;
   const nTr = traced.length;
+  const gridT = d.gridT, grid = d.grid;
   const points = gridT.length;
   const signals: Record<string, number[]> = {};
   const metrics: Record<string, SignalMetrics> = {};
   const atLim: Record<string, Array<[number, number]>> = {};
   const duration = spec.duration;
-  traced.forEach((tr, j) => {
-    if (!tr.shown) return;
+  const mt = d.mt.subarray(0, nMerged);
+  const my: Float64Array[] = [];
+  for (let j = 0; j < nTr; j++) my.push(d.my.subarray(j * d.mCap, j * d.mCap + nMerged));
+  const disp = d.disp.subarray(0, nMerged);
+  for (let j = 0; j < nTr; j++) {
+    const tr = traced[j];
+    if (!tr.shown) continue;
+    const scale = tr.scale, offset = tr.offset;
     const col = new Array<number>(points);
-    for (let i = 0; i < points; i++) col[i] = display(rec.grid[i * nTr + j], tr);
+    for (let i = 0, o = j; i < points; i++, o += nTr) col[i] = (grid[o] - offset) / scale;
     signals[tr.name] = col;
-    const m = displayMetrics({ t: merged.t, y: merged.y[j] }, tr, rec.iae[j]);
+    // metrics in the signal's display unit (see displayMetrics)
+    const y = my[j];
+    for (let i = 0; i < nMerged; i++) disp[i] = (y[i] - offset) / scale;
+    const m = rawMetrics({ t: mt, y: disp });
     const sm: SignalMetrics = {
       initial: m.initial,
       final: m.final,
@@ -668,23 +868,27 @@ function assemble(
       rise: m.rise,
       overshoot: m.overshoot,
       settling: m.settling,
-      iae: m.iae,
+      iae: d.iae[j] / scale,
     };
     if (tr.limit !== undefined) {
       const iv = atLimit[tr.limit] ?? [];
-      sm.timeAtLimit = duration > 0 ? iv.reduce((s, [a, b]) => s + (b - a), 0) / duration : 0;
+      let sum = 0;
+      for (let q = 0; q < iv.length; q++) sum += iv[q][1] - iv[q][0];
+      sm.timeAtLimit = duration > 0 ? sum / duration : 0;
       atLim[tr.name] = iv.map(([a, b]) => [a, b]);
     }
     metrics[tr.name] = sm;
-  });
+  }
   const ps = tail.plantStates;
   const d0 = Float64Array.from(ps, (i) => Math.abs(tail.x0[i] - tail.opX[i]));
   const recovered = tail.complete && recovers(d0, Float64Array.from(ps, (i) => Math.max(tail.maxDist[i], d0[i])), Float64Array.from(ps, (i) => tail.maxDev[i]), tail.atol);
-  const expects = evaluateExpects(c, spec, { traced, t: merged.t, y: merged.y, iae: rec.iae, atLimit, duration, complete: tail.complete });
+  const expects = spec.expects.length ? evaluateExpects(c, spec, { traced, t: mt, y: my, iae: d.iae, atLimit, duration, complete: tail.complete }) : [];
+  const t = new Array<number>(points);
+  for (let i = 0; i < points; i++) t[i] = gridT[i];
   const result: RunResult = {
     label: input.label,
     kind: input.kind,
-    t: Array.from(gridT),
+    t,
     signals,
     atLimit: atLim,
     metrics,
