@@ -184,12 +184,37 @@ export interface ExpectData {
 
 class ExpectError extends Error {}
 
+/** Per expect: its text as shown (the expect objects belong to one document). */
+const expectTexts = new WeakMap<object, string>();
+/** Per expression: does it measure the run (contains a metric call)? */
+const measures = new WeakMap<Expr, boolean>();
+/** Per compiled loop: values of constant expressions at its default params. */
+const constants = new WeakMap<Compiled, Map<Expr, number>>();
+
+function constantOf(c: Compiled, e: Expr): number {
+  let m = constants.get(c);
+  if (!m) {
+    m = new Map();
+    constants.set(c, m);
+  }
+  let v = m.get(e);
+  if (v === undefined) {
+    v = c.constant(e);
+    m.set(e, v);
+  }
+  return v;
+}
+
 const TIME_METRICS = new Set(['settling', 'rise']);
 
 /** Checks every `expect` of the loop against one run's data. */
 export function evaluateExpects(c: Compiled, spec: RunSpec, d: ExpectData): ExpectResult[] {
   return spec.expects.map((ex) => {
-    const text = c.text.slice(ex.span.start, ex.span.end).replace(/\s+/g, ' ').trim();
+    let text = expectTexts.get(ex);
+    if (text === undefined) {
+      text = c.text.slice(ex.span.start, ex.span.end).replace(/\s+/g, ' ').trim();
+      expectTexts.set(ex, text);
+    }
     const test = ex.test;
     const base = { text, span: ex.span };
     if (test.kind !== 'binary' || !['<', '<=', '>', '>=', '==', '!='].includes(test.op)) {
@@ -236,6 +261,15 @@ function samplesOf(c: Compiled, d: ExpectData, e: Expr): { s: Samples; j: number
 }
 
 function hasMetric(e: Expr): boolean {
+  let r = measures.get(e);
+  if (r === undefined) {
+    r = findMetric(e);
+    measures.set(e, r);
+  }
+  return r;
+}
+
+function findMetric(e: Expr): boolean {
   let found = false;
   const visit = (x: Expr): void => {
     if (x.kind === 'call' && ['settling', 'overshoot', 'rise', 'peak', 'final', 'iae', 'saturated'].includes(x.callee.name)) found = true;
@@ -250,7 +284,7 @@ function hasMetric(e: Expr): boolean {
 /** SI value of one side of an expect. */
 function value(c: Compiled, d: ExpectData, e: Expr): number {
   if (!hasMetric(e)) {
-    const v = c.constant(e);
+    const v = constantOf(c, e);
     if (!Number.isFinite(v)) throw new ExpectError(`'${c.text.slice(e.span.start, e.span.end)}' is not a finite number`);
     return v;
   }
@@ -307,7 +341,7 @@ function metricValue(c: Compiled, d: ExpectData, name: string, args: Expr[]): nu
       if (!band) throw new ExpectError('settling needs a band');
       const relative = band.kind === 'number' || (band.kind === 'quantity' && isPureNumberUnit(band.unit.text));
       // an absolute band is a width: the offset of its unit does not apply (2 [degC] is 2 K wide)
-      const bv = c.constant(band) - (!relative && band.kind === 'quantity' ? displayUnit(band.unit.text).offset : 0);
+      const bv = constantOf(c, band) - (!relative && band.kind === 'quantity' ? displayUnit(band.unit.text).offset : 0);
       const w = bandWidth(s, bv, relative);
       if (relative && changeOf(s).still) throw new ExpectError(`${nameOf()} does not change, so a relative band has no width`);
       return need(settlingOf(s, w), 'settling time');
