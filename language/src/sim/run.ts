@@ -12,7 +12,7 @@ import { LimitMode, type LoopEvaluator, type TracedSignal } from '../model/types
 import type { LoopRunReport, RunError, RunResult, SignalInfo, SignalMetrics, SolverStats } from '../protocol';
 import { createIntegrator, type Integrator, type IntegratorMethod, type SegmentResult, type StepView } from './solver';
 import { eventValue, hysteresis, locateRoot, modeFor, nextMode } from './events';
-import { GL3_NODES, GL3_WEIGHTS, rawMetrics, recovers } from './metrics';
+import { GL3_NODES, GL3_WEIGHTS, displayMetricsOf, recovers } from './metrics';
 
 const GL3_N0 = GL3_NODES[0], GL3_N1 = GL3_NODES[1], GL3_N2 = GL3_NODES[2];
 import { evaluateExpects } from './metrics';
@@ -106,8 +106,6 @@ class RunDriver {
   mt = new Float64Array(0);
   my = new Float64Array(0);
   mCap = 0;
-  /** Display values of one signal for its metrics. */
-  disp = new Float64Array(0);
   readonly rhs: (t: number, x: Float64Array, dx: Float64Array) => void;
   readonly jac: (t: number, x: Float64Array, J: Float64Array) => void;
 
@@ -234,7 +232,6 @@ class RunDriver {
       this.mCap = Math.max(need, 2 * this.mCap);
       this.mt = new Float64Array(this.mCap);
       this.my = new Float64Array(this.mCap * nTr);
-      this.disp = new Float64Array(this.mCap);
     }
     const t = this.mt, y = this.my, cap = this.mCap;
     let i = 0, k = 0, m = 0;
@@ -851,7 +848,6 @@ function assemble(
   const mt = d.mt.subarray(0, nMerged);
   const my: Float64Array[] = [];
   for (let j = 0; j < nTr; j++) my.push(d.my.subarray(j * d.mCap, j * d.mCap + nMerged));
-  const disp = d.disp.subarray(0, nMerged);
   for (let j = 0; j < nTr; j++) {
     const tr = traced[j];
     if (!tr.shown) continue;
@@ -859,10 +855,8 @@ function assemble(
     const col: number[] = [];
     for (let i = 0, o = j; i < points; i++, o += nTr) col.push((grid[o] - offset) / scale);
     signals[tr.name] = col;
-    // metrics in the signal's display unit (see displayMetrics)
-    const y = my[j];
-    for (let i = 0; i < nMerged; i++) disp[i] = (y[i] - offset) / scale;
-    const m = rawMetrics({ t: mt, y: disp });
+    // metrics in the signal's display unit, read straight from the merged SI samples
+    const m = displayMetricsOf(mt, my[j], nMerged, tr, d.iae[j]);
     const sm: SignalMetrics = {
       initial: m.initial,
       final: m.final,
@@ -870,7 +864,7 @@ function assemble(
       rise: m.rise,
       overshoot: m.overshoot,
       settling: m.settling,
-      iae: d.iae[j] / scale,
+      iae: m.iae,
     };
     if (tr.limit !== undefined) {
       const iv = atLimit[tr.limit] ?? [];
