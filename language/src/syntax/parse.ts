@@ -5,7 +5,6 @@ import type { IRecognitionException, IToken } from 'chevrotain';
 import { DiagnosticSink, type Span } from '../diagnostics';
 import type { Expr, FileAst } from './ast';
 import { getParser } from './parser';
-import { AstBuilder } from './to-ast';
 import { LBracket, LCurly, loopLexer, LParen, RBracket, RCurly, RParen, UnitLit, UnterminatedString } from './tokens';
 
 export interface ParseResult {
@@ -33,15 +32,20 @@ export function parse(text: string, sink: DiagnosticSink): ParseResult {
   const comments = (lexed.groups.comments ?? []) as IToken[];
   const parser = getParser();
   parser.setInput(dropDeepNesting(lexed.tokens, sink), text);
-  let cst;
+  let blocks: FileAst['blocks'] = [];
   try {
-    cst = parser.file();
+    blocks = parser.parseFile();
   } catch (err) {
     // Chevrotain does not throw on bad input with recovery enabled; this guards the unexpected.
     sink.error('LW101', { start: 0, end: Math.min(text.length, 1) }, `the file could not be read: ${(err as Error).message}`);
   }
   reportParseErrors(parser.errors, text, sink);
-  const ast = new AstBuilder(text).file(cst, comments);
+  const ast: FileAst = {
+    kind: 'file',
+    span: { start: 0, end: text.length },
+    blocks,
+    comments: comments.filter((t) => Number.isFinite(t.startOffset)).map((t) => ({ text: t.image, span: { start: t.startOffset, end: t.startOffset + t.image.length } })),
+  };
   limitDepth(ast, sink);
   return { ast, tokens: lexed.tokens, comments };
 }

@@ -1,11 +1,15 @@
-// The grammar of the loop language as a Chevrotain CST parser. Semantics stay out of it: the
-// CST goes to to-ast.ts. `recoveryEnabled` keeps half-typed files analysable.
+// The grammar of the loop language as a Chevrotain parser whose rules return the AST of ast.ts
+// directly. `recoveryEnabled` keeps half-typed files analysable: a missing child becomes an
+// ErrorExpr or a `missing` Ident with a finite (possibly empty) span, so later stages never see
+// NaN offsets or undefined.
 //
 // Line breaks: whitespace is skipped by the lexer, but an expression does not continue across a
 // line break with a binary operator at the start of the next line (outside parentheses and
 // brackets). `x' = a` followed by a line `-b -> Sys.u` is therefore two members, as written.
 
-import { CstParser, EOF, type IOrAlt, type IToken, type TokenType, type IParserErrorMessageProvider, defaultParserErrorProvider } from 'chevrotain';
+import { EmbeddedActionsParser, EOF, type IOrAlt, type IToken, type IParserErrorMessageProvider, defaultParserErrorProvider } from 'chevrotain';
+import type { Span } from '../diagnostics';
+import type * as A from './ast';
 import * as T from './tokens';
 
 const Kw = T.Kw;
@@ -89,28 +93,290 @@ export function layoutOf(tokens: IToken[], text: string): TokenLayout {
   return { breakBefore, nested };
 }
 
-export class LoopParser extends CstParser {
+/**
+ * The value of a rule that read no token of its own (all of it was recovered). Its span is the
+ * end of the enclosing node's span, which is known only to the caller: the caller builds it.
+ */
+class Deferred {
+  constructor(
+    readonly frame: Frame,
+    readonly build: (f: Frame, span: Span) => unknown,
+  ) {}
+}
+
+/** What a rule has read so far: tokens in named fields, the values of its subrules in order. */
+interface Frame {
+  subs: unknown[];
+  [k: string]: unknown;
+}
+
+/** An operand of a flat expression: its prefix operators and its primary. */
+interface Operand {
+  pfx: IToken[] | undefined;
+  prim: unknown;
+  span: Span;
+}
+
+const NONE: never[] = [];
+
+function validOffset(n: number | undefined): n is number {
+  return typeof n === 'number' && Number.isFinite(n);
+}
+
+function tokSpan(t: IToken | undefined, fallback: Span): Span {
+  if (!t || !validOffset(t.startOffset) || t.isInsertedInRecovery) return { start: fallback.end, end: fallback.end };
+  return { start: t.startOffset, end: t.startOffset + t.image.length };
+}
+
+function ident(t: IToken | undefined, fallback: Span): A.Ident {
+  if (!t || t.isInsertedInRecovery || !validOffset(t.startOffset)) return { name: '', span: { start: fallback.end, end: fallback.end }, missing: true };
+  return { name: t.image, span: tokSpan(t, fallback) };
+}
+
+/** A subrule's value; a recovered empty one gets the end of `fallback` as its span. */
+function resolve(v: unknown, fallback: Span): unknown {
+  if (v instanceof Deferred) return v.build(v.frame, { start: fallback.end, end: fallback.end });
+  return v;
+}
+
+function expr(v: unknown, fallback: Span): A.Expr {
+  if (v === undefined) return { kind: 'error', span: { start: fallback.end, end: fallback.end } };
+  return resolve(v, fallback) as A.Expr;
+}
+
+function unit(t: IToken | undefined): A.UnitText | undefined {
+  if (!t || !validOffset(t.startOffset) || t.isInsertedInRecovery) return undefined;
+  const closed = t.image.endsWith(']');
+  const inner = t.image.slice(1, closed ? -1 : undefined);
+  const lead = inner.length - inner.trimStart().length;
+  const text = inner.trim();
+  const start = t.startOffset + 1 + lead;
+  return { text, span: { start, end: start + text.length }, outer: { start: t.startOffset, end: t.startOffset + t.image.length } };
+}
+
+function path(v: unknown, fallback: Span): A.Ident[] {
+  if (v === undefined) return [{ name: '', span: { start: fallback.end, end: fallback.end }, missing: true }];
+  const ids = resolve(v, fallback) as IToken[];
+  const all = ids.map((t) => ident(t, fallback));
+  return all.length ? all : [{ name: '', span: { start: fallback.end, end: fallback.end }, missing: true }];
+}
+
+/** Entries take the member's span as fallback (the braces' own span is not used). */
+function entries(v: unknown, fallback: Span): A.Entry[] {
+  if (v === undefined) return [];
+  return (resolve(v, fallback) as unknown[]).map((e) => resolve(e, fallback) as A.Entry);
+}
+
+function unquote(s: string): string {
+  const body = s.startsWith('"') ? s.slice(1, s.endsWith('"') && s.length > 1 ? -1 : undefined) : s;
+  return body.replace(/\\(.)/g, (_, ch: string) => (ch === 'n' ? '\n' : ch === 't' ? '\t' : ch));
+}
+
+const BINDING: Record<A.BinaryOp, number> = {
+  or: 1,
+  and: 2,
+  '<': 4,
+  '<=': 4,
+  '>': 4,
+  '>=': 4,
+  '==': 4,
+  '!=': 4,
+  '+': 5,
+  '-': 5,
+  '*': 6,
+  '/': 6,
+  '^': 8,
+};
+
+function binaryOp(image: string): A.BinaryOp {
+  if (image === '\u2212') return '-';
+  if (image === '\u00b7') return '*';
+  return image as A.BinaryOp;
+}
+
+/**
+ * Builds the tree of a flat run `operand (op operand)*`, each operand being prefix operators
+ * and a primary, by precedence climbing. Binding powers: or 1, and 2, comparisons 4, + − 5,
+ * * / 6, ^ 8 (right-associative). A prefix `not` takes everything that binds tighter than
+ * `and` (`not a < b` is not (a < b)); a prefix − or + takes what binds tighter than * /
+ * (`-x^2` is −(x²), `-a*b` is (−a)·b).
+ */
+function flatExpression(operands: unknown[], ops: IToken[], span: Span): A.Expr {
+  let pos = 0; // operand being read; ops[pos] follows operands[pos]
+  let pre = 0; // prefix operators of operands[pos] already read
+  const empty = (at: number): A.Expr => ({ kind: 'error', span: { start: at, end: at } });
+  const atom = (): A.Expr => {
+    const raw = operands[pos];
+    if (!raw) return empty(span.end);
+    const o = resolve(raw, span) as Operand;
+    const pfx = o.pfx ?? NONE;
+    if (pre < pfx.length) {
+      const t = pfx[pre++];
+      const op: A.UnaryOp = t.image === 'not' ? 'not' : t.image === '+' ? '+' : '-';
+      const operand = climb(op === 'not' ? 2 : 6);
+      const opSpan = tokSpan(t, span);
+      const whole = { start: opSpan.start, end: Math.max(opSpan.end, operand.span.end) };
+      // A signed literal is one value: `-10 [degC]` is minus ten degrees Celsius (263.15 K),
+      // not the negation of 283.15 K. Folding the sign here gives every later pass that reading.
+      if ((op === '-' || op === '+') && (operand.kind === 'number' || operand.kind === 'quantity') && !operand.text.startsWith('-') && !operand.text.startsWith('+')) {
+        const value = op === '-' ? -operand.value : operand.value;
+        const text = (op === '-' ? '-' : '') + operand.text;
+        const numberSpan = { start: opSpan.start, end: operand.kind === 'quantity' ? operand.numberSpan.end : operand.span.end };
+        return operand.kind === 'quantity' ? { ...operand, span: whole, value, text, numberSpan } : { ...operand, span: whole, value, text };
+      }
+      return { kind: 'unary', span: whole, op, opSpan, operand };
+    }
+    const e = expr(o.prim, o.span);
+    pos++;
+    pre = 0;
+    return e;
+  };
+  const climb = (minBp: number): A.Expr => {
+    let left = atom();
+    while (pos - 1 < ops.length && pos > 0) {
+      const opTok = ops[pos - 1];
+      const op = binaryOp(opTok.image);
+      const bp = BINDING[op];
+      if (bp <= minBp) break;
+      const consumed = pos;
+      const right = operands[pos] ? climb(op === '^' ? bp - 1 : bp) : empty(left.span.end);
+      if (pos === consumed && !operands[consumed]) pos++;
+      left = { kind: 'binary', span: { start: left.span.start, end: Math.max(left.span.end, right.span.end) }, op, opSpan: tokSpan(opTok, left.span), left, right };
+    }
+    return left;
+  };
+  return climb(0);
+}
+
+function list(items: A.Expr[], span: Span): A.Expr {
+  if (items.length > 0 && items.every((i) => i.kind === 'list' || i.kind === 'matrix')) {
+    // a list of lists is a matrix; `[[1, 2]]` is a 1×2 matrix
+    const rows: A.Expr[][] = [];
+    const rowSpans: Span[] = [];
+    for (const it of items) {
+      if (it.kind === 'list') {
+        rows.push(it.items);
+        rowSpans.push(it.span);
+      } else if (it.kind === 'matrix') {
+        rows.push(...it.rows);
+        rowSpans.push(...it.rowSpans);
+      }
+    }
+    return { kind: 'matrix', span, rows, rowSpans };
+  }
+  return { kind: 'list', span, items };
+}
+
+type Member = A.SystemMember | A.LoopMember;
+
+const ZERO: Span = { start: 0, end: 0 };
+
+export class LoopParser extends EmbeddedActionsParser {
   private layout: TokenLayout = { breakBefore: new Uint8Array(0), nested: new Uint8Array(0) };
+  // Start offsets of the tokens consumed so far (inserted ones left out) and the end of the last
+  // one: a rule's span runs from the first token it consumed to the last.
+  private starts: number[] = [];
+  private lastEnd = 0;
+  // The value of the last rule that failed (what it had read), for its caller or its recovery.
+  private pending: unknown = undefined;
+  private hasPending = false;
+  // Frames of the rules whose shared alternatives or repetitions are running.
+  private exTop!: Frame;
+  private opTop!: Frame;
+  private prTop!: Frame;
+  private neTop!: Frame;
+  private liTop!: Frame;
   // Alternatives of each OR, built once: a literal array in a rule body would be allocated (with
   // one object and one closure per alternative) on every call of the rule.
-  private blockKeywordAlts?: IOrAlt<unknown>[];
-  private descriptionAlts?: IOrAlt<unknown>[];
+  private blockKeywordAlts?: IOrAlt<IToken>[];
+  private descriptionAlts?: IOrAlt<IToken>[];
   private memberAlts?: IOrAlt<unknown>[];
-  private sweepAlts?: IOrAlt<unknown>[];
-  private operatorAlts?: IOrAlt<unknown>[];
-  private prefixAlts?: IOrAlt<unknown>[];
+  private operatorAlts?: IOrAlt<IToken>[];
+  private prefixAlts?: IOrAlt<IToken>[];
   private primaryAlts?: IOrAlt<unknown>[];
   private nameTailAlts?: IOrAlt<unknown>[];
   private continuation?: { GATE: () => boolean; DEF: () => void };
+  private argList?: { SEP: typeof T.Comma; DEF: () => void };
+  private itemList?: { SEP: typeof T.Comma; DEF: () => void };
 
   constructor() {
-    super(T.allTokens, { recoveryEnabled: true, maxLookahead: 4, errorMessageProvider: messages, nodeLocationTracking: 'onlyOffset' });
+    super(T.allTokens, { recoveryEnabled: true, maxLookahead: 4, errorMessageProvider: messages });
     this.performSelfAnalysis();
+    const self = this as unknown as { consumeInternal: (tt: unknown, idx: number, opts: unknown) => IToken };
+    const consume = self.consumeInternal;
+    self.consumeInternal = (tt, idx, opts) => {
+      const t = consume.call(this, tt, idx, opts);
+      if (!t.isInsertedInRecovery && validOffset(t.startOffset)) {
+        this.starts.push(t.startOffset);
+        this.lastEnd = t.startOffset + t.image.length;
+      }
+      return t;
+    };
   }
 
   setInput(tokens: IToken[], text: string): void {
     this.layout = layoutOf(tokens, text);
+    this.starts = [];
+    this.lastEnd = 0;
+    this.pending = undefined;
+    this.hasPending = false;
     this.input = tokens;
+  }
+
+  /** Parses the whole input into its blocks. */
+  parseFile(): A.Block[] {
+    const v = this.file();
+    const blocks = (v instanceof Deferred ? v.frame.subs : ((v as unknown[] | undefined) ?? NONE)) as unknown[];
+    const out: A.Block[] = [];
+    for (const b of blocks) {
+      const block = resolve(b, ZERO) as A.Block | undefined;
+      if (block) out.push(block);
+    }
+    return out;
+  }
+
+  /**
+   * A rule that reads into a frame and builds its value from it. When the rule fails, what it
+   * had read (with the value of a failed subrule) is still built: the caller or the recovery
+   * gets it, as a half-typed member still has its name and the part of its value before the gap.
+   */
+  private R<T>(name: string, body: (f: Frame) => void, build: (f: Frame, span: Span) => T) {
+    return this.RULE(
+      name,
+      (): T => {
+        const f: Frame = { subs: [] };
+        if (this.RECORDING_PHASE) {
+          body(f);
+          return undefined as T;
+        }
+        const n0 = this.starts.length;
+        try {
+          body(f);
+        } catch (e) {
+          if (this.hasPending) {
+            f.subs.push(this.pending);
+            this.hasPending = false;
+          }
+          this.pending = this.finish(f, n0, build);
+          this.hasPending = true;
+          throw e;
+        }
+        return this.finish(f, n0, build) as T;
+      },
+      {
+        recoveryValueFunc: () => {
+          const v = this.pending;
+          this.pending = undefined;
+          this.hasPending = false;
+          return v as T;
+        },
+      },
+    );
+  }
+
+  private finish(f: Frame, n0: number, build: (f: Frame, span: Span) => unknown): unknown {
+    if (n0 < this.starts.length) return build(f, { start: this.starts[n0], end: this.lastEnd });
+    return new Deferred(f, build);
   }
 
   /** True when the next token may continue the current expression (not a new line's start). */
@@ -121,366 +387,647 @@ export class LoopParser extends CstParser {
     return !this.layout.breakBefore[i] || !!this.layout.nested[i];
   }
 
-  public file = this.RULE('file', () => {
-    this.MANY(() => this.SUBRULE(this.block));
-  });
+  public file = this.R(
+    'file',
+    (f) => {
+      this.MANY(() => {
+        f.subs.push(this.SUBRULE(this.block));
+      });
+    },
+    (f) => f.subs,
+  );
 
-  public block = this.RULE('block', () => {
-    this.OR((this.blockKeywordAlts ??= [{ ALT: () => this.CONSUME(Kw.plant) }, { ALT: () => this.CONSUME(Kw.controller) }, { ALT: () => this.CONSUME(Kw.loop) }]));
-    this.CONSUME(T.Ident, { LABEL: 'name' });
-    this.OPTION(() => this.OR2((this.descriptionAlts ??= [{ ALT: () => this.CONSUME(T.StringLit, { LABEL: 'description' }) }, { ALT: () => this.CONSUME(T.UnterminatedString, { LABEL: 'description' }) }])));
-    this.CONSUME(T.LCurly);
-    this.MANY(() => this.SUBRULE(this.member));
-    this.CONSUME(T.RCurly);
-  });
+  public block = this.R(
+    'block',
+    (f) => {
+      f.kw = this.OR((this.blockKeywordAlts ??= [{ ALT: () => this.CONSUME(Kw.plant) }, { ALT: () => this.CONSUME(Kw.controller) }, { ALT: () => this.CONSUME(Kw.loop) }]));
+      f.name = this.CONSUME(T.Ident);
+      this.OPTION(() => {
+        f.desc = this.OR2((this.descriptionAlts ??= [{ ALT: () => this.CONSUME(T.StringLit) }, { ALT: () => this.CONSUME(T.UnterminatedString) }]));
+      });
+      f.lc = this.CONSUME(T.LCurly);
+      this.MANY(() => {
+        f.subs.push(this.SUBRULE(this.member));
+      });
+      f.rc = this.CONSUME(T.RCurly);
+    },
+    (f, span): A.Block | undefined => {
+      const kwTok = f.kw as IToken | undefined;
+      if (!kwTok) return undefined;
+      const keywordSpan = tokSpan(kwTok, span);
+      const name = ident(f.name as IToken | undefined, keywordSpan);
+      const descTok = f.desc as IToken | undefined;
+      const description = descTok && validOffset(descTok.startOffset) ? { text: unquote(descTok.image), span: tokSpan(descTok, span) } : undefined;
+      const lc = f.lc as IToken | undefined;
+      const rc = f.rc as IToken | undefined;
+      const bodyStart = lc && validOffset(lc.startOffset) ? lc.startOffset + 1 : name.span.end;
+      const bodyEnd = rc && validOffset(rc.startOffset) && !rc.isInsertedInRecovery ? rc.startOffset : span.end;
+      const bodySpan = { start: bodyStart, end: Math.max(bodyStart, bodyEnd) };
+      const kind = kwTok.image as 'plant' | 'controller' | 'loop';
+      const members: Member[] = [];
+      for (const m of f.subs) {
+        const member = resolve(m, ZERO) as Member | undefined;
+        if (member) members.push(member);
+      }
+      if (kind === 'loop') return { kind, span, keywordSpan, name, description, members: members as A.LoopMember[], bodySpan };
+      return { kind, span, keywordSpan, name, description, members: members as A.SystemMember[], bodySpan };
+    },
+  );
 
-  public member = this.RULE('member', () => {
-    this.OR({
-      IGNORE_AMBIGUITIES: true,
-      DEF: (this.memberAlts ??= [
-        { ALT: () => this.SUBRULE(this.paramMember) },
-        { ALT: () => this.SUBRULE(this.letMember) },
-        { ALT: () => this.SUBRULE(this.stateMember) },
-        { ALT: () => this.SUBRULE(this.inputMember) },
-        { ALT: () => this.SUBRULE(this.outputMember) },
-        { ALT: () => this.SUBRULE(this.linearMember) },
-        { ALT: () => this.SUBRULE(this.pidMember) },
-        { ALT: () => this.SUBRULE(this.limitMember) },
-        { ALT: () => this.SUBRULE(this.operatingMember) },
-        { ALT: () => this.SUBRULE(this.sampleMember) },
-        { ALT: () => this.SUBRULE(this.signalMember) },
-        { ALT: () => this.SUBRULE(this.useMember) },
-        { ALT: () => this.SUBRULE(this.aroundMember) },
-        { ALT: () => this.SUBRULE(this.startMember) },
-        { ALT: () => this.SUBRULE(this.simulateMember) },
-        { ALT: () => this.SUBRULE(this.compareMember) },
-        { ALT: () => this.SUBRULE(this.sweepMember) },
-        { ALT: () => this.SUBRULE(this.showMember) },
-        { ALT: () => this.SUBRULE(this.expectMember) },
-        { ALT: () => this.SUBRULE(this.solveMember) },
-        // `x' = …` and `y / u = …` are told from an arrow by the lookahead itself (Ident Quote
-        // Equals; Ident Slash Ident Equals): no expression of an arrow has '=' in that place.
-        { ALT: () => this.SUBRULE(this.derivMember) },
-        { ALT: () => this.SUBRULE(this.transferMember) },
-        { ALT: () => this.SUBRULE(this.arrowMember) },
-      ]),
-    });
-  });
+  public member = this.R(
+    'member',
+    (f) => {
+      f.subs.push(
+        this.OR({
+          IGNORE_AMBIGUITIES: true,
+          DEF: (this.memberAlts ??= [
+            { ALT: () => this.SUBRULE(this.paramMember) },
+            { ALT: () => this.SUBRULE(this.letMember) },
+            { ALT: () => this.SUBRULE(this.stateMember) },
+            { ALT: () => this.SUBRULE(this.inputMember) },
+            { ALT: () => this.SUBRULE(this.outputMember) },
+            { ALT: () => this.SUBRULE(this.linearMember) },
+            { ALT: () => this.SUBRULE(this.pidMember) },
+            { ALT: () => this.SUBRULE(this.limitMember) },
+            { ALT: () => this.SUBRULE(this.operatingMember) },
+            { ALT: () => this.SUBRULE(this.sampleMember) },
+            { ALT: () => this.SUBRULE(this.signalMember) },
+            { ALT: () => this.SUBRULE(this.useMember) },
+            { ALT: () => this.SUBRULE(this.aroundMember) },
+            { ALT: () => this.SUBRULE(this.startMember) },
+            { ALT: () => this.SUBRULE(this.simulateMember) },
+            { ALT: () => this.SUBRULE(this.compareMember) },
+            { ALT: () => this.SUBRULE(this.sweepMember) },
+            { ALT: () => this.SUBRULE(this.showMember) },
+            { ALT: () => this.SUBRULE(this.expectMember) },
+            { ALT: () => this.SUBRULE(this.solveMember) },
+            // `x' = …` and `y / u = …` are told from an arrow by the lookahead itself (Ident Quote
+            // Equals; Ident Slash Ident Equals): no expression of an arrow has '=' in that place.
+            { ALT: () => this.SUBRULE(this.derivMember) },
+            { ALT: () => this.SUBRULE(this.transferMember) },
+            { ALT: () => this.SUBRULE(this.arrowMember) },
+          ]),
+        }),
+      );
+    },
+    // a member is its one alternative; none (no viable member) leaves nothing
+    (f, span) => (f.subs.length ? resolve(f.subs[0], span) : undefined),
+  );
 
-  private paramMember = this.RULE('paramMember', () => {
-    this.CONSUME(Kw.param);
-    this.CONSUME(T.Ident);
-    this.CONSUME(T.Equals);
-    this.SUBRULE(this.expression);
-  });
-
-  private letMember = this.RULE('letMember', () => {
-    this.CONSUME(Kw.let);
-    this.CONSUME(T.Ident);
-    this.CONSUME(T.Equals);
-    this.SUBRULE(this.expression);
-  });
-
-  private stateMember = this.RULE('stateMember', () => {
-    this.CONSUME(Kw.state);
-    this.CONSUME(T.Ident);
-    this.OPTION(() => this.CONSUME(T.UnitLit));
-    this.OPTION2(() => {
+  private paramMember = this.R(
+    'paramMember',
+    (f) => {
+      this.CONSUME(Kw.param);
+      f.id = this.CONSUME(T.Ident);
       this.CONSUME(T.Equals);
-      this.SUBRULE(this.expression);
-    });
-  });
+      f.subs.push(this.SUBRULE(this.expression));
+    },
+    (f, span): Member => ({ kind: 'param', span, name: ident(f.id as IToken, span), value: expr(f.subs[0], span) }),
+  );
 
-  private inputMember = this.RULE('inputMember', () => {
-    this.CONSUME(Kw.input);
-    this.CONSUME(T.Ident);
-    this.OPTION(() => this.CONSUME(T.UnitLit));
-  });
-
-  private outputMember = this.RULE('outputMember', () => {
-    this.CONSUME(Kw.output);
-    this.CONSUME(T.Ident);
-    this.OPTION(() => this.CONSUME(T.UnitLit));
-    this.OPTION2(() => {
+  private letMember = this.R(
+    'letMember',
+    (f) => {
+      this.CONSUME(Kw.let);
+      f.id = this.CONSUME(T.Ident);
       this.CONSUME(T.Equals);
-      this.SUBRULE(this.expression);
-    });
-  });
+      f.subs.push(this.SUBRULE(this.expression));
+    },
+    (f, span): Member => ({ kind: 'let', span, name: ident(f.id as IToken, span), value: expr(f.subs[0], span) }),
+  );
 
-  private linearMember = this.RULE('linearMember', () => {
-    this.CONSUME(Kw.linear);
-    this.SUBRULE(this.entries);
-  });
+  private stateMember = this.R(
+    'stateMember',
+    (f) => {
+      this.CONSUME(Kw.state);
+      f.id = this.CONSUME(T.Ident);
+      this.OPTION(() => {
+        f.unit = this.CONSUME(T.UnitLit);
+      });
+      this.OPTION2(() => {
+        this.CONSUME(T.Equals);
+        f.subs.push(this.SUBRULE(this.expression));
+      });
+    },
+    (f, span): Member => ({ kind: 'state', span, name: ident(f.id as IToken, span), unit: unit(f.unit as IToken | undefined), init: f.subs.length ? expr(f.subs[0], span) : undefined }),
+  );
 
-  private pidMember = this.RULE('pidMember', () => {
-    this.CONSUME(Kw.pid);
-    this.CONSUME(T.Ident, { LABEL: 'output' });
-    this.CONSUME(Kw.from);
-    this.CONSUME2(T.Ident, { LABEL: 'input' });
-    this.SUBRULE(this.entries);
-  });
+  private inputMember = this.R(
+    'inputMember',
+    (f) => {
+      this.CONSUME(Kw.input);
+      f.id = this.CONSUME(T.Ident);
+      this.OPTION(() => {
+        f.unit = this.CONSUME(T.UnitLit);
+      });
+    },
+    (f, span): Member => ({ kind: 'input', span, name: ident(f.id as IToken, span), unit: unit(f.unit as IToken | undefined) }),
+  );
 
-  private limitMember = this.RULE('limitMember', () => {
-    this.CONSUME(Kw.limit);
-    this.CONSUME(T.Ident);
-    this.CONSUME(Kw.within);
-    this.SUBRULE(this.expression, { LABEL: 'lo' });
-    this.CONSUME(T.DotDot);
-    this.SUBRULE2(this.expression, { LABEL: 'hi' });
-  });
+  private outputMember = this.R(
+    'outputMember',
+    (f) => {
+      this.CONSUME(Kw.output);
+      f.id = this.CONSUME(T.Ident);
+      this.OPTION(() => {
+        f.unit = this.CONSUME(T.UnitLit);
+      });
+      this.OPTION2(() => {
+        this.CONSUME(T.Equals);
+        f.subs.push(this.SUBRULE(this.expression));
+      });
+    },
+    (f, span): Member => ({ kind: 'output', span, name: ident(f.id as IToken, span), unit: unit(f.unit as IToken | undefined), value: f.subs.length ? expr(f.subs[0], span) : undefined }),
+  );
 
-  private operatingMember = this.RULE('operatingMember', () => {
-    this.CONSUME(Kw.operating);
-    this.CONSUME(Kw.point);
-    this.CONSUME(T.Ident);
-    this.SUBRULE(this.entries);
-  });
+  private linearMember = this.R(
+    'linearMember',
+    (f) => {
+      f.kw = this.CONSUME(Kw.linear);
+      f.subs.push(this.SUBRULE(this.entries));
+    },
+    (f, span): Member => ({ kind: 'linear', span, keywordSpan: tokSpan(f.kw as IToken, span), entries: entries(f.subs[0], span) }),
+  );
 
-  private sampleMember = this.RULE('sampleMember', () => {
-    this.CONSUME(Kw.sample);
-    this.CONSUME(Kw.every);
-    this.SUBRULE(this.expression);
-    this.OPTION(() => {
-      this.CONSUME(Kw.by);
-      this.CONSUME(T.Ident, { LABEL: 'method' });
-    });
-  });
+  private pidMember = this.R(
+    'pidMember',
+    (f) => {
+      this.CONSUME(Kw.pid);
+      f.output = this.CONSUME(T.Ident);
+      this.CONSUME(Kw.from);
+      f.input = this.CONSUME2(T.Ident);
+      f.subs.push(this.SUBRULE(this.entries));
+    },
+    (f, span): Member => ({ kind: 'pid', span, output: ident(f.output as IToken, span), input: ident(f.input as IToken, span), entries: entries(f.subs[0], span) }),
+  );
 
-  private signalMember = this.RULE('signalMember', () => {
-    this.CONSUME(Kw.signal);
-    this.CONSUME(T.Ident);
-    this.CONSUME(T.Equals);
-    this.SUBRULE(this.expression);
-  });
+  private limitMember = this.R(
+    'limitMember',
+    (f) => {
+      this.CONSUME(Kw.limit);
+      f.id = this.CONSUME(T.Ident);
+      this.CONSUME(Kw.within);
+      f.subs.push(this.SUBRULE(this.expression));
+      this.CONSUME(T.DotDot);
+      f.subs.push(this.SUBRULE2(this.expression));
+    },
+    (f, span): Member => ({ kind: 'limit', span, target: ident(f.id as IToken, span), lo: expr(f.subs[0], span), hi: expr(f.subs[1], span) }),
+  );
 
-  private useMember = this.RULE('useMember', () => {
-    this.CONSUME(Kw.use);
-    this.CONSUME(T.Ident, { LABEL: 'name' });
-    this.CONSUME(T.Equals);
-    this.CONSUME2(T.Ident, { LABEL: 'system' });
-    this.CONSUME(T.LParen);
-    this.MANY(() => {
-      this.SUBRULE(this.entry);
-      this.OPTION(() => this.CONSUME(T.Comma));
-    });
-    this.CONSUME(T.RParen);
-  });
+  private operatingMember = this.R(
+    'operatingMember',
+    (f) => {
+      this.CONSUME(Kw.operating);
+      this.CONSUME(Kw.point);
+      f.id = this.CONSUME(T.Ident);
+      f.subs.push(this.SUBRULE(this.entries));
+    },
+    (f, span): Member => ({ kind: 'operatingPoint', span, name: ident(f.id as IToken, span), entries: entries(f.subs[0], span) }),
+  );
 
-  private aroundMember = this.RULE('aroundMember', () => {
-    this.CONSUME(Kw.around);
-    this.SUBRULE(this.path);
-  });
+  private sampleMember = this.R(
+    'sampleMember',
+    (f) => {
+      this.CONSUME(Kw.sample);
+      this.CONSUME(Kw.every);
+      f.subs.push(this.SUBRULE(this.expression));
+      this.OPTION(() => {
+        this.CONSUME(Kw.by);
+        f.method = this.CONSUME(T.Ident);
+      });
+    },
+    (f, span): Member => {
+      const m = f.method as IToken | undefined;
+      return { kind: 'sample', span, period: expr(f.subs[0], span), method: m ? ident(m, span) : undefined };
+    },
+  );
 
-  private startMember = this.RULE('startMember', () => {
-    this.CONSUME(Kw.start);
-    this.SUBRULE(this.path);
-    this.CONSUME(T.Equals);
-    this.SUBRULE(this.expression);
-  });
+  private signalMember = this.R(
+    'signalMember',
+    (f) => {
+      this.CONSUME(Kw.signal);
+      f.id = this.CONSUME(T.Ident);
+      this.CONSUME(T.Equals);
+      f.subs.push(this.SUBRULE(this.expression));
+    },
+    (f, span): Member => ({ kind: 'signal', span, name: ident(f.id as IToken, span), value: expr(f.subs[0], span) }),
+  );
 
-  private simulateMember = this.RULE('simulateMember', () => {
-    this.CONSUME(Kw.simulate);
-    this.SUBRULE(this.expression);
-    this.OPTION(() => this.SUBRULE(this.entries));
-  });
+  private useMember = this.R(
+    'useMember',
+    (f) => {
+      this.CONSUME(Kw.use);
+      f.name = this.CONSUME(T.Ident);
+      this.CONSUME(T.Equals);
+      f.system = this.CONSUME2(T.Ident);
+      this.CONSUME(T.LParen);
+      this.MANY(() => {
+        f.subs.push(this.SUBRULE(this.entry));
+        this.OPTION(() => this.CONSUME(T.Comma));
+      });
+      this.CONSUME(T.RParen);
+    },
+    (f, span): Member => ({ kind: 'use', span, name: ident(f.name as IToken, span), system: ident(f.system as IToken, span), overrides: f.subs.map((e) => resolve(e, span) as A.Entry) }),
+  );
 
-  private compareMember = this.RULE('compareMember', () => {
-    this.CONSUME(Kw.compare);
-    this.CONSUME(Kw.linear);
-  });
+  private aroundMember = this.R(
+    'aroundMember',
+    (f) => {
+      this.CONSUME(Kw.around);
+      f.subs.push(this.SUBRULE(this.path));
+    },
+    (f, span): Member => ({ kind: 'around', span, target: path(f.subs[0], span) }),
+  );
 
-  private sweepMember = this.RULE('sweepMember', () => {
-    this.CONSUME(Kw.sweep);
-    this.OR((this.sweepAlts ??= [
-      {
-        ALT: () => {
-          this.CONSUME(Kw.start);
-          this.SUBRULE(this.path, { LABEL: 'startPath' });
-          this.CONSUME(Kw.over);
-          this.SUBRULE(this.expression, { LABEL: 'values' });
-          this.MANY(() => {
-            this.CONSUME(T.Comma);
-            this.SUBRULE2(this.expression, { LABEL: 'values' });
-          });
+  private startMember = this.R(
+    'startMember',
+    (f) => {
+      this.CONSUME(Kw.start);
+      f.subs.push(this.SUBRULE(this.path));
+      this.CONSUME(T.Equals);
+      f.subs.push(this.SUBRULE(this.expression));
+    },
+    (f, span): Member => ({ kind: 'start', span, target: path(f.subs[0], span), value: expr(f.subs[1], span) }),
+  );
+
+  private simulateMember = this.R(
+    'simulateMember',
+    (f) => {
+      this.CONSUME(Kw.simulate);
+      f.subs.push(this.SUBRULE(this.expression));
+      this.OPTION(() => {
+        f.subs.push(this.SUBRULE(this.entries));
+      });
+    },
+    (f, span): Member => ({ kind: 'simulate', span, duration: expr(f.subs[0], span), options: f.subs.length > 1 ? entries(f.subs[1], span) : [] }),
+  );
+
+  private compareMember = this.R(
+    'compareMember',
+    () => {
+      this.CONSUME(Kw.compare);
+      this.CONSUME(Kw.linear);
+    },
+    (_f, span): Member => ({ kind: 'compare', span }),
+  );
+
+  private sweepMember = this.R(
+    'sweepMember',
+    (f) => {
+      this.CONSUME(Kw.sweep);
+      this.OR([
+        {
+          ALT: () => {
+            f.start = this.CONSUME(Kw.start);
+            f.subs.push(this.SUBRULE(this.path));
+            this.CONSUME(Kw.over);
+            f.subs.push(this.SUBRULE(this.expression));
+            this.MANY(() => {
+              this.CONSUME(T.Comma);
+              f.subs.push(this.SUBRULE2(this.expression));
+            });
+          },
         },
-      },
-      {
-        ALT: () => {
-          this.SUBRULE2(this.path, { LABEL: 'paramPath' });
-          this.CONSUME2(Kw.over);
-          this.SUBRULE3(this.expression, { LABEL: 'lo' });
-          this.CONSUME(T.DotDot);
-          this.SUBRULE4(this.expression, { LABEL: 'hi' });
-          this.CONSUME(Kw.steps);
-          this.SUBRULE5(this.expression, { LABEL: 'steps' });
+        {
+          ALT: () => {
+            f.subs.push(this.SUBRULE2(this.path));
+            this.CONSUME2(Kw.over);
+            f.subs.push(this.SUBRULE3(this.expression));
+            this.CONSUME(T.DotDot);
+            f.subs.push(this.SUBRULE4(this.expression));
+            this.CONSUME(Kw.steps);
+            f.subs.push(this.SUBRULE5(this.expression));
+          },
         },
-      },
-    ]));
-  });
+      ]);
+    },
+    (f, span): Member => {
+      if (f.start) {
+        return { kind: 'sweepStart', span, target: path(f.subs[0], span), values: f.subs.slice(1).map((v) => expr(v, span)) };
+      }
+      return { kind: 'sweepParam', span, target: path(f.subs[0], span), lo: expr(f.subs[1], span), hi: expr(f.subs[2], span), steps: expr(f.subs[3], span) };
+    },
+  );
 
-  private showMember = this.RULE('showMember', () => {
-    this.CONSUME(Kw.show);
-    this.SUBRULE(this.expression);
-    this.MANY(() => {
-      this.CONSUME(T.Comma);
-      this.SUBRULE2(this.expression);
-    });
-  });
+  private showMember = this.R(
+    'showMember',
+    (f) => {
+      this.CONSUME(Kw.show);
+      f.subs.push(this.SUBRULE(this.expression));
+      this.MANY(() => {
+        this.CONSUME(T.Comma);
+        f.subs.push(this.SUBRULE2(this.expression));
+      });
+    },
+    (f, span): Member => ({ kind: 'show', span, signals: f.subs.map((e) => expr(e, span)) }),
+  );
 
-  private expectMember = this.RULE('expectMember', () => {
-    this.CONSUME(Kw.expect);
-    this.SUBRULE(this.expression);
-  });
+  private expectMember = this.R(
+    'expectMember',
+    (f) => {
+      this.CONSUME(Kw.expect);
+      f.subs.push(this.SUBRULE(this.expression));
+    },
+    (f, span): Member => ({ kind: 'expect', span, test: expr(f.subs[0], span) }),
+  );
 
-  private solveMember = this.RULE('solveMember', () => {
-    this.CONSUME(Kw.solve);
-    this.CONSUME(Kw.algebraic);
-  });
+  private solveMember = this.R(
+    'solveMember',
+    () => {
+      this.CONSUME(Kw.solve);
+      this.CONSUME(Kw.algebraic);
+    },
+    (_f, span): Member => ({ kind: 'solveAlgebraic', span }),
+  );
 
-  private derivMember = this.RULE('derivMember', () => {
-    this.CONSUME(T.Ident);
-    this.CONSUME(T.Quote);
-    this.CONSUME(T.Equals);
-    this.SUBRULE(this.expression);
-  });
+  private derivMember = this.R(
+    'derivMember',
+    (f) => {
+      f.id = this.CONSUME(T.Ident);
+      this.CONSUME(T.Quote);
+      this.CONSUME(T.Equals);
+      f.subs.push(this.SUBRULE(this.expression));
+    },
+    (f, span): Member => ({ kind: 'derivEq', span, target: ident(f.id as IToken, span), value: expr(f.subs[0], span) }),
+  );
 
-  private transferMember = this.RULE('transferMember', () => {
-    this.CONSUME(T.Ident, { LABEL: 'output' });
-    this.CONSUME(T.Slash);
-    this.CONSUME2(T.Ident, { LABEL: 'input' });
-    this.CONSUME(T.Equals);
-    this.SUBRULE(this.expression);
-  });
+  private transferMember = this.R(
+    'transferMember',
+    (f) => {
+      f.output = this.CONSUME(T.Ident);
+      this.CONSUME(T.Slash);
+      f.input = this.CONSUME2(T.Ident);
+      this.CONSUME(T.Equals);
+      f.subs.push(this.SUBRULE(this.expression));
+    },
+    (f, span): Member => ({ kind: 'transfer', span, output: ident(f.output as IToken, span), input: ident(f.input as IToken, span), value: expr(f.subs[0], span) }),
+  );
 
-  private arrowMember = this.RULE('arrowMember', () => {
-    this.SUBRULE(this.expression);
-    this.CONSUME(T.Arrow);
-    this.SUBRULE(this.path);
-  });
+  private arrowMember = this.R(
+    'arrowMember',
+    (f) => {
+      f.subs.push(this.SUBRULE(this.expression));
+      f.arrow = this.CONSUME(T.Arrow);
+      f.subs.push(this.SUBRULE(this.path));
+    },
+    (f, span): Member => {
+      const target = path(f.subs[1], span);
+      return {
+        kind: 'arrow',
+        span,
+        source: expr(f.subs[0], span),
+        arrowSpan: tokSpan(f.arrow as IToken | undefined, span),
+        target,
+        targetSpan: target.length ? { start: target[0].span.start, end: target[target.length - 1].span.end } : { start: span.end, end: span.end },
+      };
+    },
+  );
 
-  public path = this.RULE('path', () => {
-    this.CONSUME(T.Ident);
-    this.MANY(() => {
-      this.CONSUME(T.Dot);
-      this.CONSUME2(T.Ident);
-    });
-  });
+  /** The tokens of a dotted name (the caller makes idents of them). */
+  public path = this.R(
+    'path',
+    (f) => {
+      f.subs.push(this.CONSUME(T.Ident));
+      this.MANY(() => {
+        this.CONSUME(T.Dot);
+        f.subs.push(this.CONSUME2(T.Ident));
+      });
+    },
+    (f) => f.subs,
+  );
 
-  private entries = this.RULE('entries', () => {
-    this.CONSUME(T.LCurly);
-    this.MANY(() => {
-      this.SUBRULE(this.entry);
-      this.OPTION(() => this.CONSUME(T.Comma));
-    });
-    this.CONSUME(T.RCurly);
-  });
+  /** The entries in braces (each built with the enclosing member's span as fallback). */
+  private entries = this.R(
+    'entries',
+    (f) => {
+      this.CONSUME(T.LCurly);
+      this.MANY(() => {
+        f.subs.push(this.SUBRULE(this.entry));
+        this.OPTION(() => this.CONSUME(T.Comma));
+      });
+      this.CONSUME(T.RCurly);
+    },
+    (f) => f.subs,
+  );
 
-  private entry = this.RULE('entry', () => {
-    this.CONSUME(T.Ident);
-    this.CONSUME(T.Equals);
-    this.SUBRULE(this.expression);
-  });
+  private entry = this.R(
+    'entry',
+    (f) => {
+      f.id = this.CONSUME(T.Ident);
+      this.CONSUME(T.Equals);
+      f.subs.push(this.SUBRULE(this.expression));
+    },
+    (f, span): A.Entry => ({ name: ident(f.id as IToken, span), value: expr(f.subs[0], span), span }),
+  );
 
   // ---------- expressions ----------
-  // An expression is a flat run of operands and binary operators; to-ast.ts builds the tree by
-  // precedence (or < and < not < comparisons < + - < * / < unary - + < ^). Keeping the grammar
-  // flat keeps the concrete tree small: three nodes per operand instead of one per level.
+  // An expression is a flat run of operands and binary operators, built into a tree by
+  // precedence in flatExpression (or < and < not < comparisons < + - < * / < unary - + < ^).
 
-  public expression = this.RULE('expression', () => {
-    this.SUBRULE(this.operand, { LABEL: 'operands' });
-    this.MANY((this.continuation ??= {
-      GATE: () => this.continues(),
-      DEF: () => {
-        this.OR((this.operatorAlts ??= [
-          { ALT: () => this.CONSUME(Kw.or, { LABEL: 'ops' }) },
-          { ALT: () => this.CONSUME(Kw.and, { LABEL: 'ops' }) },
-          { ALT: () => this.CONSUME(T.LessEq, { LABEL: 'ops' }) },
-          { ALT: () => this.CONSUME(T.GreaterEq, { LABEL: 'ops' }) },
-          { ALT: () => this.CONSUME(T.EqEq, { LABEL: 'ops' }) },
-          { ALT: () => this.CONSUME(T.NotEq, { LABEL: 'ops' }) },
-          { ALT: () => this.CONSUME(T.Less, { LABEL: 'ops' }) },
-          { ALT: () => this.CONSUME(T.Greater, { LABEL: 'ops' }) },
-          { ALT: () => this.CONSUME(T.Plus, { LABEL: 'ops' }) },
-          { ALT: () => this.CONSUME(T.Minus, { LABEL: 'ops' }) },
-          { ALT: () => this.CONSUME(T.Star, { LABEL: 'ops' }) },
-          { ALT: () => this.CONSUME(T.Slash, { LABEL: 'ops' }) },
-          { ALT: () => this.CONSUME(T.Caret, { LABEL: 'ops' }) },
-        ]));
-        this.SUBRULE2(this.operand, { LABEL: 'operands' });
-      },
-    }));
-  });
+  public expression = this.R(
+    'expression',
+    (f) => {
+      f.ops = [];
+      f.subs.push(this.SUBRULE(this.operand));
+      this.exTop = f;
+      this.MANY((this.continuation ??= {
+        GATE: () => this.continues(),
+        DEF: () => {
+          const g = this.exTop;
+          (g.ops as IToken[]).push(
+            this.OR((this.operatorAlts ??= [
+              { ALT: () => this.CONSUME(Kw.or) },
+              { ALT: () => this.CONSUME(Kw.and) },
+              { ALT: () => this.CONSUME(T.LessEq) },
+              { ALT: () => this.CONSUME(T.GreaterEq) },
+              { ALT: () => this.CONSUME(T.EqEq) },
+              { ALT: () => this.CONSUME(T.NotEq) },
+              { ALT: () => this.CONSUME(T.Less) },
+              { ALT: () => this.CONSUME(T.Greater) },
+              { ALT: () => this.CONSUME(T.Plus) },
+              { ALT: () => this.CONSUME(T.Minus) },
+              { ALT: () => this.CONSUME(T.Star) },
+              { ALT: () => this.CONSUME(T.Slash) },
+              { ALT: () => this.CONSUME(T.Caret) },
+            ])),
+          );
+          g.subs.push(this.SUBRULE2(this.operand));
+          this.exTop = g;
+        },
+      }));
+    },
+    (f, span): A.Expr => flatExpression(f.subs, f.ops as IToken[], span),
+  );
 
   /** Prefix operators (`-`, `+`, `not`) then a primary. */
-  private operand = this.RULE('operand', () => {
-    this.MANY(this.prefix);
-    this.SUBRULE(this.primary);
-  });
+  private operand = this.R(
+    'operand',
+    (f) => {
+      this.opTop = f;
+      this.MANY(this.prefix);
+      f.subs.push(this.SUBRULE(this.primary));
+    },
+    (f, span): Operand => ({ pfx: f.pfx as IToken[] | undefined, prim: f.subs[0], span }),
+  );
 
   private prefix = (): void => {
-    this.OR((this.prefixAlts ??= [
-      { ALT: () => this.CONSUME(T.Minus, { LABEL: 'prefix' }) },
-      { ALT: () => this.CONSUME(T.Plus, { LABEL: 'prefix' }) },
-      { ALT: () => this.CONSUME(Kw.not, { LABEL: 'prefix' }) },
-    ]));
+    const t = this.OR((this.prefixAlts ??= [{ ALT: () => this.CONSUME(T.Minus) }, { ALT: () => this.CONSUME(T.Plus) }, { ALT: () => this.CONSUME(Kw.not) }]));
+    const f = this.opTop;
+    ((f.pfx as IToken[] | undefined) ?? (f.pfx = [])).push(t);
   };
 
-  private primary = this.RULE('primary', () => {
-    this.OR((this.primaryAlts ??= [
-      {
-        ALT: () => {
-          this.CONSUME(T.NumberLit);
-          this.OPTION(() => this.CONSUME(T.UnitLit));
-        },
-      },
-      { ALT: () => this.SUBRULE(this.nameExpr) },
-      {
-        ALT: () => {
-          this.CONSUME(T.LParen);
-          this.SUBRULE(this.expression);
-          this.CONSUME(T.RParen);
-        },
-      },
-      { ALT: () => this.SUBRULE(this.listExpr) },
-      { ALT: () => this.SUBRULE(this.ifExpr) },
-    ]));
-  });
+  private unitOption = (): void => {
+    this.prTop.unit = this.CONSUME(T.UnitLit);
+  };
 
-  private nameExpr = this.RULE('nameExpr', () => {
-    this.CONSUME(T.Ident);
-    this.OR((this.nameTailAlts ??= [
-      {
-        ALT: () => {
-          this.CONSUME(T.LParen);
-          this.MANY_SEP({ SEP: T.Comma, DEF: () => this.SUBRULE(this.expression, { LABEL: 'args' }) });
-          this.CONSUME(T.RParen);
+  // f.alt: 1 a number, 2 a name, list or `if` (its value is the primary), 3 parentheses
+  private primary = this.R(
+    'primary',
+    (f) => {
+      this.prTop = f;
+      this.OR((this.primaryAlts ??= [
+        {
+          ALT: () => {
+            const g = this.prTop;
+            g.alt = 1;
+            g.num = this.CONSUME(T.NumberLit);
+            this.OPTION(this.unitOption);
+          },
         },
-      },
-      { ALT: () => this.CONSUME(T.Quote) },
-      {
-        ALT: () =>
-          this.MANY(() => {
-            this.CONSUME(T.Dot);
-            this.CONSUME2(T.Ident, { LABEL: 'parts' });
-          }),
-      },
-    ]));
-  });
+        {
+          ALT: () => {
+            const g = this.prTop;
+            g.alt = 2;
+            g.subs.push(this.SUBRULE(this.nameExpr));
+          },
+        },
+        {
+          ALT: () => {
+            const g = this.prTop;
+            g.alt = 3;
+            this.CONSUME(T.LParen);
+            g.subs.push(this.SUBRULE(this.expression));
+            this.CONSUME(T.RParen);
+          },
+        },
+        {
+          ALT: () => {
+            const g = this.prTop;
+            g.alt = 2;
+            g.subs.push(this.SUBRULE(this.listExpr));
+          },
+        },
+        {
+          ALT: () => {
+            const g = this.prTop;
+            g.alt = 2;
+            g.subs.push(this.SUBRULE(this.ifExpr));
+          },
+        },
+      ]));
+    },
+    (f, span): A.Expr => {
+      const num = f.num as IToken | undefined;
+      if (num) {
+        const numberSpan = tokSpan(num, span);
+        const value = Number(num.image);
+        const u = unit(f.unit as IToken | undefined);
+        if (num.isInsertedInRecovery || !validOffset(num.startOffset)) return { kind: 'error', span: numberSpan };
+        if (u) return { kind: 'quantity', span: { start: numberSpan.start, end: u.outer.end }, value, text: num.image, numberSpan, unit: u };
+        return { kind: 'number', span: numberSpan, value, text: num.image };
+      }
+      if (f.subs.length) {
+        const e = expr(f.subs[0], span);
+        // keep the parentheses in the span so ranges cover what the user sees
+        return f.alt === 3 ? ({ ...e, span } as A.Expr) : e;
+      }
+      return { kind: 'error', span };
+    },
+  );
 
-  private listExpr = this.RULE('listExpr', () => {
-    this.CONSUME(T.LBracket);
-    this.MANY_SEP({ SEP: T.Comma, DEF: () => this.SUBRULE(this.expression, { LABEL: 'items' }) });
-    this.CONSUME(T.RBracket);
-  });
+  private nameExpr = this.R(
+    'nameExpr',
+    (f) => {
+      f.head = this.CONSUME(T.Ident);
+      this.neTop = f;
+      this.OR((this.nameTailAlts ??= [
+        {
+          ALT: () => {
+            this.neTop.lp = this.CONSUME(T.LParen);
+            this.MANY_SEP((this.argList ??= {
+              SEP: T.Comma,
+              DEF: () => {
+                const g = this.neTop;
+                g.subs.push(this.SUBRULE(this.expression));
+                this.neTop = g;
+              },
+            }));
+            this.CONSUME(T.RParen);
+          },
+        },
+        {
+          ALT: () => {
+            this.neTop.quote = this.CONSUME(T.Quote);
+          },
+        },
+        {
+          ALT: () =>
+            this.MANY(() => {
+              this.CONSUME(T.Dot);
+              const g = this.neTop;
+              ((g.parts as IToken[] | undefined) ?? (g.parts = [])).push(this.CONSUME2(T.Ident));
+            }),
+        },
+      ]));
+    },
+    (f, span): A.Expr => {
+      const head = ident(f.head as IToken | undefined, span);
+      if (head.missing) return { kind: 'error', span };
+      if (f.lp) return { kind: 'call', span, callee: head, args: f.subs.map((a) => expr(a, span)) };
+      if (f.quote) return { kind: 'deriv', span, name: head };
+      const parts = ((f.parts as IToken[] | undefined) ?? NONE).map((t) => ident(t, span));
+      if (parts.length) {
+        const p = [head, ...parts];
+        return { kind: 'member', span: { start: head.span.start, end: p[p.length - 1].span.end }, path: p };
+      }
+      return { kind: 'name', span: head.span, name: head.name };
+    },
+  );
 
-  private ifExpr = this.RULE('ifExpr', () => {
-    this.CONSUME(Kw.if);
-    this.SUBRULE(this.expression, { LABEL: 'cond' });
-    this.CONSUME(Kw.then);
-    this.SUBRULE2(this.expression, { LABEL: 'then' });
-    this.CONSUME(Kw.else);
-    this.SUBRULE3(this.expression, { LABEL: 'else' });
-  });
+  private listExpr = this.R(
+    'listExpr',
+    (f) => {
+      this.CONSUME(T.LBracket);
+      this.liTop = f;
+      this.MANY_SEP((this.itemList ??= {
+        SEP: T.Comma,
+        DEF: () => {
+          const g = this.liTop;
+          g.subs.push(this.SUBRULE(this.expression));
+          this.liTop = g;
+        },
+      }));
+      this.CONSUME(T.RBracket);
+    },
+    (f, span): A.Expr =>
+      list(
+        f.subs.map((i) => expr(i, span)),
+        span,
+      ),
+  );
+
+  private ifExpr = this.R(
+    'ifExpr',
+    (f) => {
+      this.CONSUME(Kw.if);
+      f.subs.push(this.SUBRULE(this.expression));
+      this.CONSUME(Kw.then);
+      f.subs.push(this.SUBRULE2(this.expression));
+      this.CONSUME(Kw.else);
+      f.subs.push(this.SUBRULE3(this.expression));
+    },
+    (f, span): A.Expr => ({ kind: 'if', span, cond: expr(f.subs[0], span), then: expr(f.subs[1], span), else: expr(f.subs[2], span) }),
+  );
 }
 
 /** One parser instance for the process: Chevrotain parsers are reusable and costly to build. */
