@@ -53,8 +53,8 @@ members ask, and prints per run a table of metrics of the shown signals (initial
   --json        print {runs: [{label, t, signals, metrics, expects, ...}], stats} instead
   --csv FILE    also write every run's samples (display units) to FILE
   --html FILE   also write a self-contained HTML report (plots, metrics, expects, poles, model)
-Exit status: 0 all runs finished and every expect holds (the linear run of compare linear is
-shown but does not count), 1 a run failed or an expect failed,
+Exit status: 0 the nominal run finished and every expect holds on it (the linear prediction and
+the sweep runs are shown but judged by 'loopwright sweep'), 1 it failed or an expect failed,
 2 usage error, unreadable file or a file that cannot be run.`,
   async run(args, io) {
     let p;
@@ -96,9 +96,9 @@ shown but does not count), 1 a run failed or an expect failed,
     const runs = simulate(c, { linear: linearRunner(a) });
     const report = reportFor(a, c, runs, file);
     const units = new Map(report.signals.map((s) => [s.name, s.unit]));
-    // the linear run is a prediction to compare with: its expects are shown, but only the
-    // nonlinear run and the sweep runs decide the exit status
-    const failed = runs.some((r) => r.kind !== 'linear' && (r.error || r.expects.some((e) => !e.pass)));
+    // the nominal (nonlinear) run decides the exit status; the linear prediction and the sweep
+    // runs are shown beside it (`loopwright sweep` is the command that judges the family)
+    const failed = runs.some((r) => r.kind === 'nonlinear' && (r.error || r.expects.some((e) => !e.pass)));
     const html = flagString(p, 'html');
     if (html && !writeHtmlReport(io, 'simulate', html, { report, analysis: a, loop: c.name })) return EXIT_USAGE;
     const csv = flagString(p, 'csv');
