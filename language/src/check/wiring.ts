@@ -14,6 +14,7 @@ import type { DiagnosticSink } from '../diagnostics';
 import type * as A from '../syntax/ast';
 import { pathText, walkExpr } from '../syntax/ast';
 import type { LoopSymbol, SymbolTable, SystemSymbol } from './symbols';
+import { stronglyConnected } from '../graph/scc';
 
 /** feedthrough.get(output)?.has(input): the output reads that input directly. */
 type Feedthrough = Map<string, Set<string>>;
@@ -151,7 +152,7 @@ function checkLoop(loop: LoopSymbol, symbols: SymbolTable, ftOf: (s: SystemSymbo
     });
     for (const f of from) if (arrows.has(f)) (edges.get(f) ?? edges.set(f, new Set()).get(f)!).add(to);
   }
-  for (const comp of stronglyConnected([...arrows.keys()], edges)) {
+  for (const comp of stronglyConnected([...arrows.keys()], (k) => [...(edges.get(k) ?? [])])) {
     const cyclic = comp.length > 1 || edges.get(comp[0])?.has(comp[0]);
     if (!cyclic) continue;
     const members = comp.map((k) => arrows.get(k)!);
@@ -166,52 +167,4 @@ function checkLoop(loop: LoopSymbol, symbols: SymbolTable, ftOf: (s: SystemSymbo
       );
     }
   }
-}
-
-/** Tarjan's strongly connected components, iteratively. */
-function stronglyConnected(nodes: string[], edges: Map<string, Set<string>>): string[][] {
-  const index = new Map<string, number>();
-  const low = new Map<string, number>();
-  const onStack = new Set<string>();
-  const stack: string[] = [];
-  const out: string[][] = [];
-  let counter = 0;
-  for (const root of nodes) {
-    if (index.has(root)) continue;
-    const work: Array<{ v: string; it: Iterator<string> }> = [];
-    const enter = (v: string) => {
-      index.set(v, counter);
-      low.set(v, counter++);
-      stack.push(v);
-      onStack.add(v);
-      work.push({ v, it: (edges.get(v) ?? new Set<string>()).values() });
-    };
-    enter(root);
-    while (work.length) {
-      const top = work[work.length - 1];
-      const n = top.it.next();
-      if (!n.done) {
-        const w = n.value;
-        if (!index.has(w)) enter(w);
-        else if (onStack.has(w)) low.set(top.v, Math.min(low.get(top.v)!, index.get(w)!));
-        continue;
-      }
-      work.pop();
-      if (work.length) {
-        const parent = work[work.length - 1].v;
-        low.set(parent, Math.min(low.get(parent)!, low.get(top.v)!));
-      }
-      if (low.get(top.v) === index.get(top.v)) {
-        const comp: string[] = [];
-        let w: string;
-        do {
-          w = stack.pop()!;
-          onStack.delete(w);
-          comp.push(w);
-        } while (w !== top.v);
-        out.push(comp.reverse());
-      }
-    }
-  }
-  return out;
 }
