@@ -94,7 +94,8 @@ function contextAt(a: Analysis, offset: number, wordStart: number): Context {
         pending = undefined;
       } else {
         let j = i - 1;
-        while (j >= 0 && toks[j].startLine === t.startLine && !['Kw_operating', 'Kw_pid', 'Kw_linear', 'Kw_simulate'].includes(toks[j].tokenType.name)) j--;
+        const curlyLineStart = a.text.lastIndexOf('\n', t.startOffset) + 1;
+        while (j >= 0 && toks[j].startOffset >= curlyLineStart && !['Kw_operating', 'Kw_pid', 'Kw_linear', 'Kw_simulate'].includes(toks[j].tokenType.name)) j--;
         owners.push(j >= 0 ? toks[j].tokenType.name.slice(3) : '');
       }
       depth++;

@@ -4,7 +4,7 @@ import { readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { format } from '../../language/src/format/format';
-import { loopLexer } from '../../language/src/syntax/tokens';
+import { lexLoop } from '../../language/src/syntax/tokens';
 
 const ROOT = join(__dirname, '..', '..');
 
@@ -19,7 +19,7 @@ function samples(dir = join(ROOT, 'samples')): string[] {
 
 /** Every token and comment, in order: what formatting must keep. */
 function content(text: string): string[] {
-  const r = loopLexer.tokenize(text);
+  const r = lexLoop(text);
   return [...r.tokens, ...((r.groups.comments ?? []) as typeof r.tokens)].sort((a, b) => a.startOffset - b.startOffset).map((t) => t.image);
 }
 

@@ -5,7 +5,7 @@ import type { IRecognitionException, IToken } from 'chevrotain';
 import { DiagnosticSink, type Span } from '../diagnostics';
 import type { Expr, FileAst } from './ast';
 import { getParser } from './parser';
-import { LBracket, LCurly, loopLexer, LParen, RBracket, RCurly, RParen, UnitLit, UnterminatedString } from './tokens';
+import { LBracket, LCurly, lexLoop, LParen, RBracket, RCurly, RParen, UnitLit, UnterminatedString } from './tokens';
 
 export interface ParseResult {
   ast: FileAst;
@@ -14,7 +14,7 @@ export interface ParseResult {
 }
 
 export function parse(text: string, sink: DiagnosticSink): ParseResult {
-  const lexed = loopLexer.tokenize(text);
+  const lexed = lexLoop(text);
   for (const e of lexed.errors) {
     const start = Number.isFinite(e.offset) ? e.offset : 0;
     let end = start + (e.length || 1);
@@ -103,13 +103,18 @@ export const MAX_EXPRESSION_DEPTH = 200;
  * reported once and replaced by an error node, so the rest of the file still analyses.
  */
 function limitDepth(ast: FileAst, sink: DiagnosticSink): void {
+  // Every node on a path from the root to a leaf owns a token of its own (an operator, a name,
+  // a bracket, 'if', the literal), so an expression is never deeper than its text is long:
+  // members shorter than the limit are skipped without walking them.
   const replace = (e: Expr): Expr => {
-    if (depthOf(e) <= MAX_EXPRESSION_DEPTH) return e;
+    if (e.span.end - e.span.start <= MAX_EXPRESSION_DEPTH || depthOf(e) <= MAX_EXPRESSION_DEPTH) return e;
     sink.error('LW106', e.span, `this expression is nested more than ${MAX_EXPRESSION_DEPTH} levels deep; split it with 'let' or 'signal'`);
     return { kind: 'error', span: e.span };
   };
   for (const b of ast.blocks) {
     for (const m of b.members as unknown as Array<Record<string, unknown>>) {
+      const span = m.span as { start: number; end: number };
+      if (span.end - span.start <= MAX_EXPRESSION_DEPTH) continue;
       for (const k in m) {
         const v = m[k];
         if (isExpr(v)) m[k] = replace(v);

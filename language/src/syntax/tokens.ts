@@ -4,7 +4,9 @@
 //   - the bracketed unit (context-sensitive: only right after a number, or after the name in a
 //     `state` / `input` / `output` declaration) before the plain `[`;
 //   - `->` before `-`, `..` before `.` and numbers, two-character comparisons before one-character;
-//   - keywords before identifiers, each with `longer_alt: Ident` so `plantain` stays a name.
+//   - keywords are not patterns of their own: every word lexes as an identifier and `lexLoop`
+//     then retypes the words that are keywords (one Map lookup per word, so `plantain` stays a
+//     name without the lexer trying each keyword and then the longer identifier).
 // Contextual keywords (`point`, `from`, `within`, `every`, `by`, `over`, `steps`, `algebraic`)
 // are also in the Ident category: they can be used as ordinary names anywhere else.
 
@@ -45,8 +47,7 @@ const contextualWords = ['point', 'from', 'within', 'every', 'by', 'over', 'step
 function keyword(word: string, contextual: boolean): TokenType {
   return createToken({
     name: 'Kw_' + word,
-    pattern: new RegExp(word),
-    longer_alt: Ident,
+    pattern: Lexer.NA,
     label: `'${word}'`,
     categories: contextual ? [Ident] : [],
   });
@@ -58,6 +59,8 @@ export const Kw = Object.fromEntries([
 ]) as Record<(typeof reservedWords)[number] | (typeof contextualWords)[number], TokenType>;
 
 export const RESERVED_WORDS: readonly string[] = reservedWords;
+const keywordOf = new Map<string, TokenType>(Object.entries(Kw));
+const reservedSet = new Set<string>(reservedWords);
 export const CONTEXTUAL_WORDS: readonly string[] = contextualWords;
 
 /**
@@ -71,9 +74,11 @@ function matchUnit(text: string, offset: number, tokens: IToken[]): RegExpExecAr
   if (!prev) return null;
   const prevType = prev.tokenType;
   let allowed = prevType === NumberLit;
-  if (!allowed && tokenMatches(prev, Ident)) {
+  // While lexing, keywords are still identifiers (lexLoop retypes them afterwards), so the
+  // declaration keyword and the declared name are told apart by their text.
+  if (!allowed && prevType === Ident && !reservedSet.has(prev.image)) {
     const before = tokens[tokens.length - 2];
-    allowed = !!before && (before.tokenType === Kw.state || before.tokenType === Kw.input || before.tokenType === Kw.output);
+    allowed = !!before && before.tokenType === Ident && (before.image === 'state' || before.image === 'input' || before.image === 'output');
   }
   if (!allowed) return null;
   let i = offset + 1;
@@ -149,15 +154,37 @@ export const allTokens: TokenType[] = [
   LCurly,
   RCurly,
   Comma,
-  // keywords before Ident
-  ...Object.values(Kw),
   Ident,
+  // never matched by the lexer (pattern NA): lexLoop gives words these types
+  ...Object.values(Kw),
 ];
 
-export const loopLexer = new Lexer(allTokens, {
-  positionTracking: 'full',
+/**
+ * Tokens carry offsets only; lines and columns come from the document's line index where they
+ * are needed (diagnostics, LSP ranges), not from every token.
+ */
+const loopLexer = new Lexer(allTokens, {
+  positionTracking: 'onlyOffset',
   skipValidations: true,
 });
+
+export type LexResult = ReturnType<Lexer['tokenize']>;
+
+/** Lexes a document: the lexer proper, then keywords retyped from identifiers. */
+export function lexLoop(text: string): LexResult {
+  const r = loopLexer.tokenize(text);
+  const toks = r.tokens;
+  for (let i = 0; i < toks.length; i++) {
+    const t = toks[i];
+    if (t.tokenType !== Ident) continue;
+    const kw = keywordOf.get(t.image);
+    if (kw !== undefined) {
+      t.tokenType = kw;
+      t.tokenTypeIdx = kw.tokenTypeIdx!;
+    }
+  }
+  return r;
+}
 
 export function tokenMatches(tok: IToken, type: TokenType): boolean {
   if (tok.tokenType === type) return true;
