@@ -48,7 +48,7 @@ const messages: IParserErrorMessageProvider = {
       return `expected a member (param, let, state, input, output, an equation, an arrow, ...), found ${show(tok)}`;
     }
     if (ruleName === 'block') return `expected a block ('plant', 'controller' or 'loop'), found ${show(tok)}`;
-    if (ruleName === 'primary' || ruleName === 'expression') return `expected an expression, found ${show(tok)}`;
+    if (ruleName === 'operand' || ruleName === 'expression') return `expected an expression, found ${show(tok)}`;
     return `expected ${ruleNames[ruleName] ?? ruleName}, found ${show(tok)}`;
   },
   buildEarlyExitMessage(options) {
@@ -283,8 +283,6 @@ export class LoopParser extends EmbeddedActionsParser {
   // Frames of the rules whose shared alternatives or repetitions are running.
   private exTop!: Frame;
   private opTop!: Frame;
-  private prTop!: Frame;
-  private neTop!: Frame;
   private liTop!: Frame;
   // Alternatives of each OR, built once: a literal array in a rule body would be allocated (with
   // one object and one closure per alternative) on every call of the rule.
@@ -859,36 +857,23 @@ export class LoopParser extends EmbeddedActionsParser {
     (f, span): A.Expr => flatExpression(f.subs, f.ops as IToken[], span),
   );
 
-  /** Prefix operators (`-`, `+`, `not`) then a primary. */
+  /**
+   * One operand: prefix operators (`-`, `+`, `not`), then a primary: a number with its unit, a
+   * name (plain, dotted, called or differentiated), parentheses, a list or an `if`. One rule, so
+   * that the commonest operand, a plain name, costs one rule call.
+   */
+  // f.alt: 1 a number, 2 a name, 3 parentheses, 4 a list or `if` (its value is the primary);
+  // f.p0: index in `starts` of the primary's first token
   private operand = this.R(
     'operand',
     (f) => {
       this.opTop = f;
       this.MANY(this.prefix);
-      f.subs.push(this.SUBRULE(this.primary));
-    },
-    (f, span): Operand => ({ pfx: f.pfx as IToken[] | undefined, prim: f.subs[0], span }),
-  );
-
-  private prefix = (): void => {
-    const t = this.OR((this.prefixAlts ??= [{ ALT: () => this.CONSUME(T.Minus) }, { ALT: () => this.CONSUME(T.Plus) }, { ALT: () => this.CONSUME(Kw.not) }]));
-    const f = this.opTop;
-    ((f.pfx as IToken[] | undefined) ?? (f.pfx = [])).push(t);
-  };
-
-  private unitOption = (): void => {
-    this.prTop.unit = this.CONSUME(T.UnitLit);
-  };
-
-  // f.alt: 1 a number, 2 a name, list or `if` (its value is the primary), 3 parentheses
-  private primary = this.R(
-    'primary',
-    (f) => {
-      this.prTop = f;
+      f.p0 = this.starts.length;
       this.OR((this.primaryAlts ??= [
         {
           ALT: () => {
-            const g = this.prTop;
+            const g = this.opTop;
             g.alt = 1;
             g.num = this.CONSUME(T.NumberLit);
             this.OPTION(this.unitOption);
@@ -896,103 +881,117 @@ export class LoopParser extends EmbeddedActionsParser {
         },
         {
           ALT: () => {
-            const g = this.prTop;
+            const g = this.opTop;
             g.alt = 2;
-            g.subs.push(this.SUBRULE(this.nameExpr));
+            g.head = this.CONSUME(T.Ident);
+            this.OR2((this.nameTailAlts ??= [
+              {
+                ALT: () => {
+                  this.opTop.lp = this.CONSUME(T.LParen);
+                  this.MANY_SEP((this.argList ??= {
+                    SEP: T.Comma,
+                    DEF: () => {
+                      const h = this.opTop;
+                      h.subs.push(this.SUBRULE(this.expression));
+                      this.opTop = h;
+                    },
+                  }));
+                  this.CONSUME(T.RParen);
+                },
+              },
+              {
+                ALT: () => {
+                  this.opTop.quote = this.CONSUME(T.Quote);
+                },
+              },
+              {
+                ALT: () =>
+                  this.MANY2(() => {
+                    this.CONSUME(T.Dot);
+                    const h = this.opTop;
+                    ((h.parts as IToken[] | undefined) ?? (h.parts = [])).push(this.CONSUME2(T.Ident));
+                  }),
+              },
+            ]));
           },
         },
         {
           ALT: () => {
-            const g = this.prTop;
+            const g = this.opTop;
             g.alt = 3;
-            this.CONSUME(T.LParen);
-            g.subs.push(this.SUBRULE(this.expression));
-            this.CONSUME(T.RParen);
+            this.CONSUME2(T.LParen);
+            g.subs.push(this.SUBRULE2(this.expression));
+            this.CONSUME2(T.RParen);
           },
         },
         {
           ALT: () => {
-            const g = this.prTop;
-            g.alt = 2;
+            const g = this.opTop;
+            g.alt = 4;
             g.subs.push(this.SUBRULE(this.listExpr));
           },
         },
         {
           ALT: () => {
-            const g = this.prTop;
-            g.alt = 2;
+            const g = this.opTop;
+            g.alt = 4;
             g.subs.push(this.SUBRULE(this.ifExpr));
           },
         },
       ]));
     },
-    (f, span): A.Expr => {
-      const num = f.num as IToken | undefined;
-      if (num) {
-        const numberSpan = tokSpan(num, span);
-        const value = Number(num.image);
-        const u = unit(f.unit as IToken | undefined);
-        if (num.isInsertedInRecovery || !validOffset(num.startOffset)) return { kind: 'error', span: numberSpan };
-        if (u) return { kind: 'quantity', span: { start: numberSpan.start, end: u.outer.end }, value, text: num.image, numberSpan, unit: u };
-        return { kind: 'number', span: numberSpan, value, text: num.image };
-      }
-      if (f.subs.length) {
-        const e = expr(f.subs[0], span);
-        // keep the parentheses in the span so ranges cover what the user sees
-        return f.alt === 3 ? ({ ...e, span } as A.Expr) : e;
-      }
-      return { kind: 'error', span };
+    (f, span): Operand => {
+      const p0 = f.p0 as number | undefined;
+      // the primary's own span: from its first token (prefix operators left out) to the end
+      // (an operand that read nothing at all is built later, once its caller knows where it
+      // stands: its span is then empty and later tokens are not its own)
+      const read = p0 !== undefined && p0 < this.starts.length && span.end > span.start;
+      const pspan = read ? { start: this.starts[p0], end: span.end } : { start: span.end, end: span.end };
+      return { pfx: f.pfx as IToken[] | undefined, prim: read ? this.primaryOf(f, pspan) : undefined, span };
     },
   );
 
-  private nameExpr = this.R(
-    'nameExpr',
-    (f) => {
-      f.head = this.CONSUME(T.Ident);
-      this.neTop = f;
-      this.OR((this.nameTailAlts ??= [
-        {
-          ALT: () => {
-            this.neTop.lp = this.CONSUME(T.LParen);
-            this.MANY_SEP((this.argList ??= {
-              SEP: T.Comma,
-              DEF: () => {
-                const g = this.neTop;
-                g.subs.push(this.SUBRULE(this.expression));
-                this.neTop = g;
-              },
-            }));
-            this.CONSUME(T.RParen);
-          },
-        },
-        {
-          ALT: () => {
-            this.neTop.quote = this.CONSUME(T.Quote);
-          },
-        },
-        {
-          ALT: () =>
-            this.MANY(() => {
-              this.CONSUME(T.Dot);
-              const g = this.neTop;
-              ((g.parts as IToken[] | undefined) ?? (g.parts = [])).push(this.CONSUME2(T.Ident));
-            }),
-        },
-      ]));
-    },
-    (f, span): A.Expr => {
+  private prefix = (): void => {
+    const t = this.OR3((this.prefixAlts ??= [{ ALT: () => this.CONSUME(T.Minus) }, { ALT: () => this.CONSUME(T.Plus) }, { ALT: () => this.CONSUME(Kw.not) }]));
+    const f = this.opTop;
+    ((f.pfx as IToken[] | undefined) ?? (f.pfx = [])).push(t);
+  };
+
+  private unitOption = (): void => {
+    this.opTop.unit = this.CONSUME(T.UnitLit);
+  };
+
+  /** The primary of an operand whose primary read at least one token; `span` is its own span. */
+  private primaryOf(f: Frame, span: Span): A.Expr {
+    const num = f.num as IToken | undefined;
+    if (num) {
+      const numberSpan = tokSpan(num, span);
+      const value = Number(num.image);
+      const u = unit(f.unit as IToken | undefined);
+      if (num.isInsertedInRecovery || !validOffset(num.startOffset)) return { kind: 'error', span: numberSpan };
+      if (u) return { kind: 'quantity', span: { start: numberSpan.start, end: u.outer.end }, value, text: num.image, numberSpan, unit: u };
+      return { kind: 'number', span: numberSpan, value, text: num.image };
+    }
+    if (f.alt === 2) {
       const head = ident(f.head as IToken | undefined, span);
       if (head.missing) return { kind: 'error', span };
       if (f.lp) return { kind: 'call', span, callee: head, args: f.subs.map((a) => expr(a, span)) };
       if (f.quote) return { kind: 'deriv', span, name: head };
-      const parts = ((f.parts as IToken[] | undefined) ?? NONE).map((t) => ident(t, span));
-      if (parts.length) {
-        const p = [head, ...parts];
+      const parts = f.parts as IToken[] | undefined;
+      if (parts) {
+        const p = [head];
+        for (const t of parts) p.push(ident(t, span));
         return { kind: 'member', span: { start: head.span.start, end: p[p.length - 1].span.end }, path: p };
       }
       return { kind: 'name', span: head.span, name: head.name };
-    },
-  );
+    }
+    if (f.subs.length) {
+      const e = expr(f.subs[0], span);
+      // keep the parentheses in the span so ranges cover what the user sees
+      return f.alt === 3 ? ({ ...e, span } as A.Expr) : e;
+    }
+    return { kind: 'error', span };
+  }
 
   private listExpr = this.R(
     'listExpr',
