@@ -39,6 +39,33 @@ interface Scope {
   optionWords?: readonly string[];
 }
 
+/**
+ * The references in source order, equal starts in the order they were found (a stable sort).
+ * Each reference's start and index are packed into one number (start · 2^20 + index, exact in
+ * a double while starts stay below 2^32), so the sort is a native numeric sort of a typed array
+ * rather than a comparator called n log n times.
+ */
+function sortByStart(refs: Reference[]): Reference[] {
+  const n = refs.length;
+  const SHIFT = 1048576; // 2^20
+  if (n >= SHIFT) return refs.sort((a, b) => a.span.start - b.span.start);
+  const keys = new Float64Array(n);
+  let sorted = true;
+  let prev = -1;
+  for (let i = 0; i < n; i++) {
+    const start = refs[i].span.start;
+    if (!(start >= 0 && start < 4294967296)) return refs.sort((a, b) => a.span.start - b.span.start);
+    if (start < prev) sorted = false;
+    prev = start;
+    keys[i] = start * SHIFT + i;
+  }
+  if (sorted) return refs;
+  keys.sort();
+  const out: Reference[] = new Array(n);
+  for (let i = 0; i < n; i++) out[i] = refs[keys[i] % SHIFT];
+  return out;
+}
+
 export class NameChecker {
   private readonly refs: Reference[] = [];
   private readonly resolved = new Map<A.Expr, Target>();
@@ -55,8 +82,7 @@ export class NameChecker {
     this.guard(() => this.declareBlocks());
     for (const sys of this.systems.values()) this.guard(() => this.checkSystem(sys));
     for (const loop of this.loops.values()) this.guard(() => this.checkLoop(loop));
-    this.refs.sort((a, b) => a.span.start - b.span.start);
-    return { systems: this.systems, loops: this.loops, blocks: this.ast.blocks, refs: this.refs, resolved: this.resolved };
+    return { systems: this.systems, loops: this.loops, blocks: this.ast.blocks, refs: sortByStart(this.refs), resolved: this.resolved };
   }
 
   private guard(f: () => void): void {

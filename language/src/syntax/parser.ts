@@ -119,6 +119,17 @@ interface Operand {
 
 const NONE: never[] = [];
 
+const newFrame = (): Frame => ({ subs: [] });
+
+const isPrefix = (tt: unknown): boolean => tt === T.Minus || tt === T.Plus || tt === Kw.not;
+
+/**
+ * The frame of an operand, with every field it may get in place from the start: operands are
+ * the commonest rule, and frames of one shape keep the reads in its builder monomorphic.
+ */
+const operandFrame = (): Frame => ({ subs: [], pfx: undefined, p0: 0, alt: 0, num: undefined, unit: undefined, head: undefined, lp: undefined, quote: undefined, parts: undefined });
+const expressionFrame = (): Frame => ({ subs: [], ops: [] });
+
 function validOffset(n: number | undefined): n is number {
   return typeof n === 'number' && Number.isFinite(n);
 }
@@ -338,11 +349,11 @@ export class LoopParser extends EmbeddedActionsParser {
    * had read (with the value of a failed subrule) is still built: the caller or the recovery
    * gets it, as a half-typed member still has its name and the part of its value before the gap.
    */
-  private R<T>(name: string, body: (f: Frame) => void, build: (f: Frame, span: Span) => T) {
+  private R<T>(name: string, body: (f: Frame) => void, build: (f: Frame, span: Span) => T, frame: () => Frame = newFrame) {
     return this.RULE(
       name,
       (): T => {
-        const f: Frame = { subs: [] };
+        const f: Frame = frame();
         if (this.RECORDING_PHASE) {
           body(f);
           return undefined as T;
@@ -825,7 +836,6 @@ export class LoopParser extends EmbeddedActionsParser {
   public expression = this.R(
     'expression',
     (f) => {
-      f.ops = [];
       f.subs.push(this.SUBRULE(this.operand));
       this.exTop = f;
       this.MANY((this.continuation ??= {
@@ -855,6 +865,7 @@ export class LoopParser extends EmbeddedActionsParser {
       }));
     },
     (f, span): A.Expr => flatExpression(f.subs, f.ops as IToken[], span),
+    expressionFrame,
   );
 
   /**
@@ -868,7 +879,9 @@ export class LoopParser extends EmbeddedActionsParser {
     'operand',
     (f) => {
       this.opTop = f;
-      this.MANY(this.prefix);
+      // most operands have no prefix: the repetition (and its end-of-repetition recovery check)
+      // runs only when one is next; the grammar is recorded with it either way
+      if (this.RECORDING_PHASE || isPrefix(this.LA(1).tokenType)) this.MANY(this.prefix);
       f.p0 = this.starts.length;
       this.OR((this.primaryAlts ??= [
         {
@@ -884,6 +897,9 @@ export class LoopParser extends EmbeddedActionsParser {
             const g = this.opTop;
             g.alt = 2;
             g.head = this.CONSUME(T.Ident);
+            // a plain name (the commonest operand) has no tail to choose
+            const nt = this.LA(1).tokenType;
+            if (!this.RECORDING_PHASE && nt !== T.LParen && nt !== T.Quote && nt !== T.Dot) return;
             this.OR2((this.nameTailAlts ??= [
               {
                 ALT: () => {
@@ -949,6 +965,7 @@ export class LoopParser extends EmbeddedActionsParser {
       const pspan = read ? { start: this.starts[p0], end: span.end } : { start: span.end, end: span.end };
       return { pfx: f.pfx as IToken[] | undefined, prim: read ? this.primaryOf(f, pspan) : undefined, span };
     },
+    operandFrame,
   );
 
   private prefix = (): void => {
