@@ -40,6 +40,23 @@ interface Scope {
 }
 
 /**
+ * A scope with some fields replaced. Every scope has all fields, in one order, so the name
+ * lookups that read them stay fast (a spread would give each combination its own shape).
+ */
+const NO_SCOPE: Scope = {};
+function narrow(scope: Scope, o: Scope): Scope {
+  return {
+    system: o.system ?? scope.system,
+    loop: o.loop ?? scope.loop,
+    laplace: o.laplace ?? scope.laplace,
+    expect: o.expect ?? scope.expect,
+    paramOnly: o.paramOnly ?? scope.paramOnly,
+    letBefore: o.letBefore ?? scope.letBefore,
+    optionWords: o.optionWords ?? scope.optionWords,
+  };
+}
+
+/**
  * The references in source order, equal starts in the order they were found (a stable sort).
  * Each reference's start and index are packed into one number (start · 2^20 + index, exact in
  * a double while starts stay below 2^32), so the sort is a native numeric sort of a typed array
@@ -316,16 +333,16 @@ export class NameChecker {
   }
 
   private checkSystemMember(sys: SystemSymbol, m: A.SystemMember, index: number): void {
-    const scope: Scope = { system: sys };
+    const scope: Scope = narrow(NO_SCOPE, { system: sys });
     switch (m.kind) {
       case 'param':
-        this.resolveExpr(m.value, { ...scope, paramOnly: { before: index } });
+        this.resolveExpr(m.value, narrow(scope, { paramOnly: { before: index } }));
         return;
       case 'let':
-        this.resolveExpr(m.value, { ...scope, letBefore: index });
+        this.resolveExpr(m.value, narrow(scope, { letBefore: index }));
         return;
       case 'state':
-        if (m.init) this.resolveExpr(m.init, { ...scope, paramOnly: { before: Infinity } });
+        if (m.init) this.resolveExpr(m.init, narrow(scope, { paramOnly: { before: Infinity } }));
         return;
       case 'output':
       case 'derivEq':
@@ -338,16 +355,16 @@ export class NameChecker {
             related: [{ span: m.value.span, message: 'transfer relation' }],
           });
         }
-        this.resolveExpr(m.value, { ...scope, laplace: true, paramOnly: { before: Infinity } });
+        this.resolveExpr(m.value, narrow(scope, { laplace: true, paramOnly: { before: Infinity } }));
         return;
       }
       case 'linear':
         this.checkEntries(m.entries, LINEAR_ENTRIES, 'a linear block');
-        for (const e of m.entries) this.resolveExpr(e.value, { ...scope, paramOnly: { before: Infinity } });
+        for (const e of m.entries) this.resolveExpr(e.value, narrow(scope, { paramOnly: { before: Infinity } }));
         return;
       case 'pid':
         this.checkEntries(m.entries, PID_ENTRIES, 'a pid law');
-        for (const e of m.entries) this.resolveExpr(e.value, { ...scope, paramOnly: { before: Infinity } });
+        for (const e of m.entries) this.resolveExpr(e.value, narrow(scope, { paramOnly: { before: Infinity } }));
         return;
       case 'limit': {
         if (!m.target.missing) {
@@ -362,15 +379,15 @@ export class NameChecker {
             } else sys.limits.set(m.target.name, m);
           }
         }
-        this.resolveExpr(m.lo, { ...scope, paramOnly: { before: Infinity } });
-        this.resolveExpr(m.hi, { ...scope, paramOnly: { before: Infinity } });
+        this.resolveExpr(m.lo, narrow(scope, { paramOnly: { before: Infinity } }));
+        this.resolveExpr(m.hi, narrow(scope, { paramOnly: { before: Infinity } }));
         return;
       }
       case 'operatingPoint':
         this.checkPoint(sys, m);
         return;
       case 'sample':
-        this.resolveExpr(m.period, { ...scope, paramOnly: { before: Infinity } });
+        this.resolveExpr(m.period, narrow(scope, { paramOnly: { before: Infinity } }));
         if (m.method && !m.method.missing && !(SAMPLE_WORDS as readonly string[]).includes(m.method.name)) {
           this.sink.error('LW508', m.method.span, `unknown discretization '${m.method.name}': use ${SAMPLE_WORDS.join(', ')}`);
         }
@@ -381,7 +398,7 @@ export class NameChecker {
   private checkPoint(sys: SystemSymbol, m: A.OperatingPointDecl): void {
     const given = new Map<string, A.Entry>();
     for (const e of m.entries) {
-      this.resolveExpr(e.value, { system: sys, paramOnly: { before: Infinity } });
+      this.resolveExpr(e.value, narrow(NO_SCOPE, { system: sys, paramOnly: { before: Infinity } }));
       if (e.name.missing) continue;
       const sym = sys.members.get(e.name.name);
       if (!sym) {
@@ -537,7 +554,7 @@ export class NameChecker {
           const p = sys.members.get(o.name.name);
           if (!p || p.kind !== 'param') this.sink.error('LW211', o.name.span, `${sys.name} has no param '${o.name.name}'`);
           else this.refs.push({ span: o.name.span, name: o.name.name, target: { kind: 'member', member: p } });
-          this.resolveExpr(o.value, { loop, paramOnly: { before: Infinity } });
+          this.resolveExpr(o.value, narrow(NO_SCOPE, { loop, paramOnly: { before: Infinity } }));
         }
       }
     }
@@ -580,13 +597,13 @@ export class NameChecker {
   }
 
   private checkLoopMember(loop: LoopSymbol, m: A.LoopMember, index: number, wired: Map<string, A.Arrow>): void {
-    const scope: Scope = { loop };
+    const scope: Scope = narrow(NO_SCOPE, { loop });
     switch (m.kind) {
       case 'signal':
         this.resolveExpr(m.value, scope);
         return;
       case 'param':
-        this.resolveExpr(m.value, { ...scope, paramOnly: { before: index } });
+        this.resolveExpr(m.value, narrow(scope, { paramOnly: { before: index } }));
         return;
       case 'use':
         return;
@@ -607,8 +624,8 @@ export class NameChecker {
         if (t && !(t.kind === 'member' && t.member.kind === 'state')) {
           this.sink.error('LW213', spanOfPath(m.target), `'${pathText(m.target)}' is not a state: ${m.kind === 'start' ? 'start' : 'sweep start'} needs SYSTEM.STATE`);
         }
-        if (m.kind === 'start') this.resolveExpr(m.value, { ...scope, paramOnly: { before: Infinity } });
-        else for (const v of m.values) this.resolveExpr(v, { ...scope, paramOnly: { before: Infinity } });
+        if (m.kind === 'start') this.resolveExpr(m.value, narrow(scope, { paramOnly: { before: Infinity } }));
+        else for (const v of m.values) this.resolveExpr(v, narrow(scope, { paramOnly: { before: Infinity } }));
         return;
       }
       case 'sweepParam': {
@@ -616,18 +633,18 @@ export class NameChecker {
         if (t && !((t.kind === 'member' && t.member.kind === 'param') || t.kind === 'loopParam')) {
           this.sink.error('LW213', spanOfPath(m.target), `'${pathText(m.target)}' is not a param: 'sweep SYSTEM.PARAM over LO .. HI steps N'`);
         }
-        for (const v of [m.lo, m.hi, m.steps]) this.resolveExpr(v, { ...scope, paramOnly: { before: Infinity } });
+        for (const v of [m.lo, m.hi, m.steps]) this.resolveExpr(v, narrow(scope, { paramOnly: { before: Infinity } }));
         return;
       }
       case 'simulate':
-        this.resolveExpr(m.duration, { ...scope, paramOnly: { before: Infinity } });
+        this.resolveExpr(m.duration, narrow(scope, { paramOnly: { before: Infinity } }));
         this.checkEntries(m.options, SIMULATE_OPTIONS, "'simulate' options");
         for (const o of m.options) {
           if (o.name.name === 'method') {
             if (o.value.kind === 'name' && (METHOD_WORDS as readonly string[]).includes(o.value.name)) {
               this.resolved.set(o.value, { kind: 'option', name: o.value.name });
             } else this.sink.error('LW220', o.value.span, `method must be one of ${METHOD_WORDS.join(', ')}`);
-          } else this.resolveExpr(o.value, { ...scope, paramOnly: { before: Infinity } });
+          } else this.resolveExpr(o.value, narrow(scope, { paramOnly: { before: Infinity } }));
         }
         return;
       case 'show':
@@ -640,7 +657,7 @@ export class NameChecker {
         if (!(m.test.kind === 'binary' && ['<', '<=', '>', '>=', '==', '!='].includes(m.test.op))) {
           this.sink.error('LW409', m.test.span, "expect needs a comparison, e.g. 'expect overshoot(Sys.y) < 0.1'");
         }
-        this.resolveExpr(m.test, { ...scope, expect: true });
+        this.resolveExpr(m.test, narrow(scope, { expect: true }));
         return;
       case 'compare':
       case 'solveAlgebraic':

@@ -19,8 +19,26 @@ export const StringLit = createToken({ name: 'StringLit', pattern: /"(?:[^"\\\n\
 export const UnterminatedString = createToken({ name: 'UnterminatedString', pattern: /"(?:[^"\\\n\r]|\\.)*/, label: 'a string' });
 
 const identRe = /[\p{L}_][\p{L}\p{N}_]*/uy;
-/** Identifiers may use any Unicode letter (`θ`, `ω`); a sticky Unicode regex does the matching. */
+/** ASCII letters, digits and `_`: the characters of almost every name, tested by code. */
+function asciiWord(c: number, first: boolean): boolean {
+  return (c >= 97 && c <= 122) || (c >= 65 && c <= 90) || c === 95 || (!first && c >= 48 && c <= 57);
+}
+/**
+ * Identifiers may use any Unicode letter (`θ`, `ω`). An all-ASCII name is scanned by character
+ * code; a name with any other character goes to a sticky Unicode regex, which decides.
+ */
 function matchIdent(text: string, offset: number): RegExpExecArray | null {
+  const n = text.length;
+  let i = offset;
+  if (i < n && asciiWord(text.charCodeAt(i), true)) {
+    i++;
+    while (i < n && asciiWord(text.charCodeAt(i), false)) i++;
+    if (i >= n || text.charCodeAt(i) < 128) {
+      const m = [text.slice(offset, i)] as unknown as RegExpExecArray;
+      m.index = offset;
+      return m;
+    }
+  }
   identRe.lastIndex = offset;
   return identRe.exec(text);
 }
