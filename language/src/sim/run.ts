@@ -451,7 +451,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
         const y0 = trPrev[j] - o, y1 = trNode0[j] - o, y2 = trNode1[j] - o, y3 = trNode2[j] - o, y4 = trBuf[j] - o;
         if (timeDep[j]) {
           iae[j] += iaeTimeDependent(view, j, a, b);
-        } else if (y0 * y1 < 0 || y1 * y2 < 0 || y2 * y3 < 0 || y3 * y4 < 0) {
+        } else if ((y0 * y1 < 0 || y1 * y2 < 0 || y2 * y3 < 0 || y3 * y4 < 0) && !negligible(iae[j], h, y0, y1, y2, y3, y4)) {
           iae[j] += iaeSplit(view, j, a, b, y0, y1, y2, y3, y4);
         } else {
           iae[j] += h * (GL3_WEIGHTS[0] * Math.abs(y1) + GL3_WEIGHTS[1] * Math.abs(y2) + GL3_WEIGHTS[2] * Math.abs(y3));
@@ -461,6 +461,17 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
     if (!deferB) d.recordSample(b, trBuf);
     trPrev.set(trBuf);
     noteTail(b, xb);
+  };
+  /**
+   * True when a step's whole contribution to an IAE is too small for a sign change in it to
+   * matter: |y| on the step is within a few times its largest sampled value, so the plain
+   * Gauss–Legendre rule is off by less than 4·h·max|y|, which here is below 0.01·rtol of the
+   * integral so far (the integration's own error in the IAE is of order rtol or more). A signal
+   * settled at zero crosses it at every wiggle of the size of the tolerances.
+   */
+  const negligible = (sofar: number, h: number, y0: number, y1: number, y2: number, y3: number, y4: number): boolean => {
+    const m = Math.max(Math.abs(y0), Math.abs(y1), Math.abs(y2), Math.abs(y3), Math.abs(y4));
+    return 4 * h * m <= 0.01 * rtol * sofar;
   };
   /** After a breakpoint or sample instant: the values there (right-continuous) for the grid and the metrics. */
   const afterStop = (ts: number, xs: Float64Array) => {
@@ -548,9 +559,14 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
     }
     return total;
   };
-  /** Sign change of y_j in [ta, tb] (ya·yb < 0) on the dense output: Illinois regula falsi. */
+  /**
+   * Sign change of y_j in [ta, tb] (ya·yb < 0) on the dense output: Illinois regula falsi. The
+   * cut only splits the IAE integral: a cut off by δ changes it by about |y'|·δ², so the root is
+   * taken to 1e-8 of its bracket (a change of order 1e-16 of the piece's integral), far below
+   * what the dense output itself resolves.
+   */
   const signRoot = (view: StepView, j: number, ta: number, ya: number, tb: number, yb: number): number => {
-    const tolT = 1e-13 * Math.max(1, Math.abs(ta), Math.abs(tb));
+    const tolT = Math.max(1e-8 * (tb - ta), 1e-15 * Math.max(Math.abs(ta), Math.abs(tb)));
     let side = 0;
     for (let it = 0; it < 60 && tb - ta > tolT; it++) {
       let tm = (ta * yb - tb * ya) / (yb - ya);
@@ -852,8 +868,8 @@ function assemble(
     const tr = traced[j];
     if (!tr.shown) continue;
     const scale = tr.scale, offset = tr.offset;
-    const col: number[] = [];
-    for (let i = 0, o = j; i < points; i++, o += nTr) col.push((grid[o] - offset) / scale);
+    const col: number[] = new Array(points);
+    for (let i = 0, o = j; i < points; i++, o += nTr) col[i] = (grid[o] - offset) / scale;
     signals[tr.name] = col;
     // metrics in the signal's display unit, read straight from the merged SI samples
     const m = displayMetricsOf(mt, my[j], nMerged, tr, d.iae[j]);
@@ -879,8 +895,8 @@ function assemble(
   const d0 = Float64Array.from(ps, (i) => Math.abs(tail.x0[i] - tail.opX[i]));
   const recovered = tail.complete && recovers(d0, Float64Array.from(ps, (i) => Math.max(tail.maxDist[i], d0[i])), Float64Array.from(ps, (i) => tail.maxDev[i]), tail.atol);
   const expects = spec.expects.length ? evaluateExpects(c, spec, { traced, t: mt, y: my, iae: d.iae, atLimit, duration, complete: tail.complete }) : [];
-  const t: number[] = [];
-  for (let i = 0; i < points; i++) t.push(gridT[i]);
+  const t: number[] = new Array(points);
+  for (let i = 0; i < points; i++) t[i] = gridT[i];
   const result: RunResult = {
     label: input.label,
     kind: input.kind,
