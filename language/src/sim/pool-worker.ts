@@ -1,40 +1,65 @@
-// A worker of the run pool: compiles the loop once from the source text, then runs jobs.
+// A worker of the run pool (pool.ts): compiles the loop of a 'load' once and keeps it for the
+// batches that follow; runs each batch's jobs one after another as the main thread would
+// (runJob), and posts the batch's results packed (packRuns) with their sample buffer transferred.
 
 import { parentPort } from 'node:worker_threads';
 import { analyze } from '../analysis';
 import type { Compiled } from '../model/compile';
+import type { RunResult } from '../protocol';
 import { compileForRun } from '../runs';
-import { runOnce } from './run';
+import { packRuns, runJob, type WorkerReply, type WorkerRequest } from './pool';
+import type { RunOptions } from './run';
 import { runSpec, type RunSpec } from './sweep';
-import type { PoolOptions, WorkerReply, WorkerRequest } from './pool';
 
-let compiled: Compiled | undefined;
-let spec: RunSpec | undefined;
-let runOpts: PoolOptions['run'] = {};
+let model = -1;
+let loaded: { c: Compiled; spec: RunSpec } | undefined;
+let loadError: string | undefined;
 
-parentPort?.on('message', (m: WorkerRequest) => {
-  const reply = (r: WorkerReply) => parentPort!.postMessage(r);
+const reply = (r: WorkerReply, transfer?: ArrayBuffer[]) => parentPort!.postMessage(r, transfer);
+
+function load(m: Extract<WorkerRequest, { type: 'load' }>): void {
+  model = m.model;
+  loaded = undefined;
+  loadError = undefined;
+  const what = m.loop !== undefined ? `loop '${m.loop}'` : "the file's first loop";
   try {
-    if (m.type === 'init') {
-      // the same compile-and-seed step as in-process runs, so threads and main thread agree
-      const r = compileForRun(analyze(m.text), m.loop);
-      if (!r.compiled) return reply({ type: 'failed', message: r.reason ?? 'the loop does not compile' });
-      compiled = r.compiled;
-      spec = runSpec(compiled);
-      runOpts = m.run ?? {};
-      reply({ type: 'ready' });
-    } else if (m.type === 'run' && compiled && spec) {
-      const c = compiled;
-      const pr = m.job.params?.length ? c.makeParams(new Map(m.job.params)) : { ok: true as const, p: c.params };
-      if (!pr.ok) {
-        reply({ type: 'result', id: m.id, run: { label: m.job.label, kind: m.job.kind ?? 'sweep', t: [], signals: {}, atLimit: {}, metrics: {}, expects: [], recovered: false, error: { code: 'LW509', message: pr.message, time: 0 }, stats: { steps: 0, rejected: 0, evaluations: 0, jacobians: 0, ms: 0 } } });
-        return;
-      }
-      const x0 = c.startFor(pr.p, new Map(m.job.starts ?? []));
-      const run = runOnce(c, spec, { label: m.job.label, kind: m.job.kind ?? 'sweep', sweep: m.job.sweep, p: pr.p, x0 }, runOpts);
-      reply({ type: 'result', id: m.id, run });
-    }
+    // the same compile-and-seed step as in-process runs, so threads and main thread agree
+    const r = compileForRun(analyze(m.text), m.loop);
+    if (r.compiled) loaded = { c: r.compiled, spec: runSpec(r.compiled) };
+    else loadError = `${what} does not compile: ${r.reason ?? 'no reason given'}`;
   } catch (e) {
-    reply({ type: 'failed', message: (e as Error).message });
+    loadError = `compiling ${what} failed: ${(e as Error).message}`;
+  }
+  if (loadError) reply({ type: 'failed', model: m.model, message: loadError });
+}
+
+function batch(m: Extract<WorkerRequest, { type: 'batch' }>): void {
+  if (m.model !== model || !loaded) {
+    reply({ type: 'failed', batch: m.batch, message: loadError ?? 'no loop was loaded before the jobs' });
+    return;
+  }
+  const stop = new Int32Array(m.stop);
+  const opts: RunOptions = m.cancellable ? { ...m.run, cancel: { get cancelled() { return Atomics.load(stop, 0) !== 0; } } } : (m.run ?? {});
+  const runs: RunResult[] = [];
+  for (const job of m.jobs) {
+    if (Atomics.load(stop, 0) !== 0) break;
+    try {
+      runs.push(runJob(loaded.c, loaded.spec, job, opts));
+    } catch (e) {
+      reply({ type: 'failed', batch: m.batch, message: `job '${job.label}' failed: ${(e as Error).message}` });
+      return;
+    }
+  }
+  const packed = packRuns(runs);
+  reply({ type: 'done', batch: m.batch, runs: packed.runs, data: packed.data }, [packed.data.buffer as ArrayBuffer]);
+}
+
+parentPort?.postMessage({ type: 'started' } satisfies WorkerReply);
+parentPort?.on('message', (m: WorkerRequest) => {
+  try {
+    if (m.type === 'load') load(m);
+    else if (m.type === 'batch') batch(m);
+  } catch (e) {
+    reply({ type: 'failed', ...(m.type === 'batch' ? { batch: m.batch } : { model: m.model }), message: `the worker failed: ${(e as Error).message}` });
   }
 });

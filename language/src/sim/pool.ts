@@ -1,12 +1,24 @@
-// Runs spread over worker threads (node:worker_threads). Each worker gets the source text and
-// the loop name, compiles once, and runs its share of the jobs; results come back as plain JSON
-// RunResults in job order. The worker script is dist/pool-worker.js (bundled from
-// pool-worker.ts by scripts/build.mjs) unless a path is given.
+// Runs spread over worker threads (node:worker_threads).
+//
+// A pool (createRunPool) keeps its workers between calls: each worker compiles a loop once from
+// its source text and keeps it until a call brings another text or loop, so start-up and compile
+// are paid once per pool and model, not per call. Jobs go out in batches, each worker holding
+// up to two so it never waits for the main thread; batch sizes shrink as the jobs run out
+// (a share of what is left, divided by the workers), so the workers finish together. Results
+// come back per batch with the sample arrays packed into one Float64Array whose buffer is
+// transferred, not cloned (WireRun); the runs keep their samples as views on that buffer
+// (PooledRun) until a consumer asks for number arrays (plainRun). runPool is the one-call form:
+// a pool for one set of jobs, closed afterwards, with number arrays.
+//
+// The worker script is dist/pool-worker.js (bundled from pool-worker.ts by scripts/build.mjs)
+// unless a path is given.
 
 import { Worker } from 'node:worker_threads';
 import { join } from 'node:path';
+import type { Compiled } from '../model/compile';
 import type { RunResult } from '../protocol';
-import type { RunOptions } from './run';
+import { failedRun, runOnce, type Cancellation, type RunOptions } from './run';
+import type { RunSpec } from './sweep';
 
 /** One run: a label and the start values / params (SI, by qualified name) that differ from the file's. */
 export interface PoolJob {
@@ -17,58 +29,399 @@ export interface PoolJob {
   params?: Array<[string, number]>;
 }
 
-export interface PoolOptions {
+/** One job run in this thread, exactly as a worker of the pool runs it. */
+export function runJob(c: Compiled, spec: RunSpec, job: PoolJob, opts: RunOptions = {}): RunResult {
+  const input = { label: job.label, kind: job.kind ?? ('sweep' as const), sweep: job.sweep, p: c.params, x0: c.start };
+  const pr = job.params?.length ? c.makeParams(new Map(job.params)) : { ok: true as const, p: c.params };
+  if (!pr.ok) return failedRun(input, spec, { code: 'LW509', message: `${job.label}: ${pr.message}`, time: 0 });
+  return runOnce(c, spec, { ...input, p: pr.p, x0: c.startFor(pr.p, new Map(job.starts ?? [])) }, opts);
+}
+
+export type PoolRunOptions = Pick<RunOptions, 'points' | 'budgetMs' | 'tolerance' | 'abstol' | 'method'>;
+
+/** One call of a pool: the loop (source text and name) and its jobs. */
+export interface PoolRequest {
   text: string;
   loop?: string;
   jobs: PoolJob[];
+  run?: PoolRunOptions;
+  /**
+   * Polled while the call runs: once set, runs under way stop (they end with error LW705, as
+   * in-process runs do), no further job starts, and the call resolves with the results of the
+   * jobs before the first one that did not run, in job order.
+   */
+  cancel?: Cancellation;
+  /** Called as batches come back, with the number of jobs finished so far. */
+  onProgress?: (finished: number) => void;
+}
+
+export interface PoolOptions extends Omit<PoolRequest, 'onProgress'> {
   threads: number;
   /** Path of the bundled worker script (default: pool-worker.js beside this bundle). */
   workerPath?: string;
-  run?: Pick<RunOptions, 'points' | 'budgetMs' | 'tolerance' | 'abstol' | 'method'>;
-  cancel?: { cancelled: boolean };
+}
+
+export interface RunPool {
+  /** Most workers the pool starts (it starts no more than a call has jobs). */
+  readonly threads: number;
+  /** Runs the jobs; resolves with their results in job order. Calls run one after another. */
+  run(req: PoolRequest): Promise<PooledRun[]>;
+  /** Stops the workers; a call still running rejects. */
+  close(): Promise<void>;
 }
 
 export type WorkerRequest =
-  | { type: 'init'; text: string; loop?: string; run?: PoolOptions['run'] }
-  | { type: 'run'; id: number; job: PoolJob }
-  | { type: 'cancel' };
+  | { type: 'load'; model: number; text: string; loop?: string }
+  | {
+      type: 'batch';
+      model: number;
+      batch: number;
+      jobs: PoolJob[];
+      run?: PoolRunOptions;
+      /** Int32 flag: non-zero stops the batch (between jobs; within runs too when `cancellable`). */
+      stop: SharedArrayBuffer;
+      cancellable: boolean;
+    };
 
-export type WorkerReply = { type: 'ready' } | { type: 'failed'; message: string } | { type: 'result'; id: number; run: RunResult };
+export type WorkerReply =
+  | { type: 'started' }
+  | { type: 'done'; batch: number; runs: WireRun[]; data: Float64Array }
+  | { type: 'failed'; batch?: number; model?: number; message: string };
+
+/**
+ * A RunResult as it crosses the thread boundary: the sample arrays (t and every signal) travel
+ * packed one after another in a Float64Array whose buffer is transferred, not cloned; here only
+ * their lengths remain (and the signal names, in their order). Every other field is the run's own.
+ */
+export type WireRun = Omit<RunResult, 't' | 'signals'> & { t: number; signals: Array<[string, number]> };
+
+/** Packs runs for posting: the returned buffer goes in the transfer list. */
+export function packRuns(runs: RunResult[]): { runs: WireRun[]; data: Float64Array } {
+  let total = 0;
+  for (const r of runs) {
+    total += r.t.length;
+    for (const k in r.signals) total += r.signals[k].length;
+  }
+  const data = new Float64Array(total);
+  const wire: WireRun[] = [];
+  let o = 0;
+  for (const r of runs) {
+    data.set(r.t, o);
+    o += r.t.length;
+    const sigs: Array<[string, number]> = [];
+    for (const k in r.signals) {
+      const col = r.signals[k];
+      data.set(col, o);
+      o += col.length;
+      sigs.push([k, col.length]);
+    }
+    // the same keys in the same order as the run, so the unpacked run matches it field by field
+    wire.push({ ...r, t: r.t.length, signals: sigs });
+  }
+  return { runs: wire, data };
+}
+
+/**
+ * A run as the pool returns it: a RunResult whose samples are Float64Array views on the buffer
+ * its batch came back in (no copy, and nothing for the garbage collector to move while a sweep's
+ * runs are held). plainRun turns it into a RunResult with number arrays for consumers that need
+ * them (JSON, the report); element by element the values are the same.
+ */
+export type PooledRun = Omit<RunResult, 't' | 'signals'> & { t: Float64Array; signals: Record<string, Float64Array> };
+
+/** The runs of a batch as posted by a worker, their samples as views on `data`. */
+export function unpackRuns(runs: WireRun[], data: Float64Array): PooledRun[] {
+  const out: PooledRun[] = [];
+  const buf = data.buffer, base = data.byteOffset;
+  let o = 0;
+  const view = (n: number, what: string, label: string): Float64Array => {
+    if (!(Number.isInteger(n) && n >= 0 && o + n <= data.length)) throw new Error(`run pool: the packed samples end before ${what} of '${label}'`);
+    const v = new Float64Array(buf, base + o * 8, n);
+    o += n;
+    return v;
+  };
+  for (const w of runs) {
+    const sigs = w.signals;
+    const r = w as unknown as PooledRun;
+    r.t = view(w.t, 't', w.label);
+    const signals: Record<string, Float64Array> = {};
+    for (const [name, n] of sigs) signals[name] = view(n, name, w.label);
+    r.signals = signals;
+    out.push(r);
+  }
+  if (o !== data.length) throw new Error(`run pool: ${data.length - o} packed samples are left over after ${runs.length} runs`);
+  return out;
+}
+
+function plainArray(v: Float64Array): number[] {
+  const n = v.length;
+  const a = new Array<number>(n);
+  for (let i = 0; i < n; i++) a[i] = v[i];
+  return a;
+}
+
+/** A pooled run with number arrays, as in-process runs give it (the same keys, in the same order). */
+export function plainRun(r: PooledRun): RunResult {
+  const signals: Record<string, number[]> = {};
+  for (const k in r.signals) signals[k] = plainArray(r.signals[k]);
+  return { ...r, t: plainArray(r.t), signals };
+}
 
 function defaultWorkerPath(): string {
   return join(typeof __dirname !== 'undefined' ? __dirname : '.', 'pool-worker.js');
 }
 
-/** Runs the jobs on `threads` workers; resolves with the results in job order. */
-export async function runPool(opts: PoolOptions): Promise<RunResult[]> {
-  const threads = Math.max(1, Math.min(opts.threads, opts.jobs.length || 1, 64));
-  const results: RunResult[] = new Array(opts.jobs.length);
-  let next = 0;
-  const path = opts.workerPath ?? defaultWorkerPath();
-  const one = (): Promise<void> =>
-    new Promise((resolve, reject) => {
-      const w = new Worker(path);
-      const finish = (err?: Error) => {
-        void w.terminate();
-        if (err) reject(err);
-        else resolve();
-      };
-      const feed = () => {
-        if (opts.cancel?.cancelled || next >= opts.jobs.length) return finish();
-        const id = next++;
-        w.postMessage({ type: 'run', id, job: opts.jobs[id] } satisfies WorkerRequest);
-      };
-      w.on('message', (m: WorkerReply) => {
-        if (m.type === 'ready') feed();
-        else if (m.type === 'failed') finish(new Error(m.message));
-        else {
-          results[m.id] = m.run;
-          feed();
-        }
-      });
-      w.on('error', (e) => finish(e));
-      w.postMessage({ type: 'init', text: opts.text, loop: opts.loop, run: opts.run } satisfies WorkerRequest);
+/** Largest batch: bounds the wait for progress and the results held back in a worker. */
+const MAX_BATCH = 32;
+/** Batches a worker holds at once: one running, one waiting, so it never waits for the main thread. */
+const IN_FLIGHT = 2;
+/** How often a call looks at its cancel flag while it runs (ms). */
+const CANCEL_POLL_MS = 10;
+
+interface Slot {
+  index: number;
+  worker: Worker;
+  /** Model this worker has been sent (the load is queued before any batch of it). */
+  model: number;
+  /** The worker script has loaded (its first message). */
+  started: boolean;
+  dead: boolean;
+}
+
+interface Batch {
+  slot: Slot;
+  first: number;
+  count: number;
+}
+
+/** The call in progress: batches out, results in, and how it ends. */
+interface Call {
+  model: number;
+  batches: Map<number, Batch>;
+  fail(message: string): void;
+  done(b: number, runs: WireRun[], data: Float64Array): void;
+}
+
+/** Job ranges [first, end) for messages, counting from 1: "job 3", "jobs 1–32, 65–80". */
+function jobsText(ranges: Array<[number, number]>): string {
+  const one = ranges.length === 1 && ranges[0][1] - ranges[0][0] === 1;
+  return `${one ? 'job' : 'jobs'} ${ranges.map(([a, b]) => (b - a === 1 ? `${a + 1}` : `${a + 1}–${b}`)).join(', ')}`;
+}
+
+/** A pool of up to `threads` workers, started as calls need them and kept until close(). */
+export function createRunPool(o: { threads: number; workerPath?: string }): RunPool {
+  const threads = Math.max(1, Math.min(Math.floor(o.threads) || 1, 64));
+  const path = o.workerPath ?? defaultWorkerPath();
+  const slots: Slot[] = [];
+  let closed = false;
+  let modelKey: string | undefined;
+  let model = 0;
+  let batchSeq = 0;
+  let current: Call | undefined;
+  let queue: Promise<unknown> = Promise.resolve();
+
+  const where = (s: Slot) => `worker ${s.index + 1} of ${threads} (${path})`;
+  /** The jobs a worker had been given and not returned, for messages: " with jobs 1–32, 65–80 unfinished". */
+  const unfinished = (s: Slot) => {
+    if (!current) return '';
+    const mine = [...current.batches.values()].filter((b) => b.slot === s).sort((a, b) => a.first - b.first);
+    if (!mine.length) return '';
+    const ranges: Array<[number, number]> = [];
+    for (const b of mine) {
+      const last = ranges.at(-1);
+      if (last && last[1] === b.first) last[1] = b.first + b.count;
+      else ranges.push([b.first, b.first + b.count]);
+    }
+    return ` with ${jobsText(ranges)} unfinished`;
+  };
+  const drop = (s: Slot) => {
+    if (s.dead) return;
+    s.dead = true;
+    const i = slots.indexOf(s);
+    if (i >= 0) slots.splice(i, 1);
+    s.worker.removeAllListeners();
+    s.worker.on('error', () => {});
+    void s.worker.terminate();
+  };
+
+  const spawn = (index: number): Slot => {
+    let worker: Worker;
+    try {
+      worker = new Worker(path);
+    } catch (e) {
+      throw new Error(`run pool: worker ${index + 1} of ${threads} could not start from ${path}: ${(e as Error).message}`);
+    }
+    const s: Slot = { index, worker, model: -1, started: false, dead: false };
+    worker.unref();
+    worker.on('message', (m: WorkerReply) => {
+      if (m.type === 'started') return void (s.started = true);
+      const call = current;
+      if (!call) return;
+      if (m.type === 'done') call.done(m.batch, m.runs, m.data);
+      else if (m.batch !== undefined ? call.batches.has(m.batch) : m.model === call.model) {
+        // a failure in a batch of this call, or the load of its model failed (stale ones are dropped)
+        call.fail(`run pool: ${m.message} (in ${where(s)})`);
+      }
     });
-  await Promise.all(Array.from({ length: threads }, one));
-  return results.filter((r) => r !== undefined);
+    worker.on('error', (e) => {
+      const msg = s.started ? `run pool: ${where(s)} failed${unfinished(s)}: ${e.message}` : `run pool: ${where(s)} could not start: ${e.message}`;
+      drop(s);
+      current?.fail(msg);
+    });
+    worker.on('exit', (code) => {
+      if (s.dead) return;
+      const msg = `run pool: ${where(s)} stopped with exit code ${code}${unfinished(s)}`;
+      drop(s);
+      current?.fail(msg);
+    });
+    return s;
+  };
+
+  const runNow = (req: PoolRequest): Promise<PooledRun[]> =>
+    new Promise<PooledRun[]>((resolve, reject) => {
+      if (closed) return reject(new Error('run pool: the pool is closed'));
+      const jobs = req.jobs;
+      const n = jobs.length;
+      if (!n || req.cancel?.cancelled) return resolve([]);
+      const key = `${req.loop ?? ''}\u0000${req.text}`;
+      if (key !== modelKey) {
+        modelKey = key;
+        model++;
+      }
+      const want = Math.min(threads, n);
+      const active: Slot[] = [];
+      try {
+        for (let i = 0; i < threads && active.length < want; i++) {
+          let s = slots.find((x) => x.index === i);
+          if (!s) {
+            s = spawn(i);
+            slots.push(s);
+          }
+          active.push(s);
+        }
+      } catch (e) {
+        return reject(e);
+      }
+      const stop = new SharedArrayBuffer(4);
+      const stopFlag = new Int32Array(stop);
+      const results: Array<PooledRun | undefined> = new Array(n);
+      let next = 0, finished = 0, ended = false, cancelled = false;
+      let timer: ReturnType<typeof setInterval> | undefined;
+
+      const end = (err?: Error) => {
+        if (ended) return;
+        ended = true;
+        if (timer) clearInterval(timer);
+        if (err) Atomics.store(stopFlag, 0, 1); // batches still out stop between jobs
+        current = undefined;
+        for (const s of active) if (!s.dead) s.worker.unref();
+        if (err) return reject(err);
+        if (!cancelled) return resolve(results as PooledRun[]);
+        const done: PooledRun[] = [];
+        for (let i = 0; i < n && results[i] !== undefined; i++) done.push(results[i]!);
+        resolve(done);
+      };
+      const checkCancel = () => {
+        if (!cancelled && req.cancel?.cancelled) {
+          cancelled = true;
+          Atomics.store(stopFlag, 0, 1);
+        }
+      };
+      const send = (s: Slot) => {
+        if (ended || cancelled || s.dead || next >= n) return;
+        // a share of what is left: large batches while there is much to do, single jobs at the end
+        const size = Math.max(1, Math.min(MAX_BATCH, Math.ceil((n - next) / (2 * IN_FLIGHT * active.length))));
+        const b = ++batchSeq;
+        call.batches.set(b, { slot: s, first: next, count: size });
+        const msg: WorkerRequest = { type: 'batch', model, batch: b, jobs: jobs.slice(next, next + size), run: req.run, stop, cancellable: !!req.cancel };
+        next += size;
+        try {
+          s.worker.postMessage(msg);
+        } catch (e) {
+          end(new Error(`run pool: ${jobsText([[next - size, next]])} could not be sent to ${where(s)}: ${(e as Error).message}`));
+        }
+      };
+      const call: Call = {
+        model,
+        batches: new Map(),
+        fail: (message) => end(new Error(message)),
+        done: (b, runs, data) => {
+          const batch = call.batches.get(b);
+          if (!batch || ended) return; // a batch of an earlier call that ended
+          call.batches.delete(b);
+          let got: PooledRun[];
+          try {
+            got = unpackRuns(runs, data);
+          } catch (e) {
+            return end(new Error(`${(e as Error).message} (${jobsText([[batch.first, batch.first + batch.count]])} from ${where(batch.slot)})`));
+          }
+          // a batch comes back short only when told to stop
+          if (got.length > batch.count || (got.length < batch.count && !Atomics.load(stopFlag, 0))) {
+            return end(new Error(`run pool: ${where(batch.slot)} returned ${got.length} of the ${batch.count} runs of ${jobsText([[batch.first, batch.first + batch.count]])}`));
+          }
+          for (let i = 0; i < got.length; i++) results[batch.first + i] = got[i];
+          finished += got.length;
+          checkCancel();
+          try {
+            req.onProgress?.(finished);
+          } catch (e) {
+            return end(new Error(`run pool: the progress callback failed: ${(e as Error).message}`));
+          }
+          send(batch.slot);
+          if (!call.batches.size) end();
+        },
+      };
+      current = call;
+      for (const s of active) {
+        s.worker.ref();
+        if (s.model !== model) {
+          try {
+            s.worker.postMessage({ type: 'load', model, text: req.text, loop: req.loop } satisfies WorkerRequest);
+          } catch (e) {
+            return end(new Error(`run pool: the loop could not be sent to ${where(s)}: ${(e as Error).message}`));
+          }
+          s.model = model;
+        }
+      }
+      for (let k = 0; k < IN_FLIGHT; k++) for (const s of active) send(s);
+      if (req.cancel) {
+        timer = setInterval(checkCancel, CANCEL_POLL_MS);
+        timer.unref?.();
+      }
+    });
+
+  return {
+    threads,
+    run(req) {
+      const p = queue.then(() => runNow(req));
+      queue = p.catch(() => undefined);
+      return p;
+    },
+    async close() {
+      closed = true;
+      const all = slots.splice(0);
+      current?.fail('run pool: the pool was closed while jobs were running');
+      await Promise.all(
+        all.map((s) => {
+          s.dead = true;
+          s.worker.removeAllListeners();
+          s.worker.on('error', () => {});
+          return s.worker.terminate();
+        }),
+      );
+    },
+  };
+}
+
+/**
+ * Runs the jobs on `threads` workers started for them and closed afterwards; resolves with the
+ * results in job order, with number arrays (plainRun).
+ */
+export async function runPool(opts: PoolOptions): Promise<RunResult[]> {
+  const pool = createRunPool({ threads: Math.min(opts.threads, opts.jobs.length || 1), workerPath: opts.workerPath });
+  try {
+    return (await pool.run(opts)).map(plainRun);
+  } finally {
+    await pool.close();
+  }
 }
