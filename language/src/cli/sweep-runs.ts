@@ -1,14 +1,13 @@
 // Executes the sweep command's runs: on worker threads through the run pool (sim/pool.ts) when
-// its bundled worker script is at hand, otherwise in this process one after another. Jobs go to
-// the pool in chunks so the progress bar can move between them.
+// its bundled worker script is at hand, otherwise in this process one after another. The pool
+// is started once per call and reports progress as its batches come back.
 
 import { existsSync } from 'node:fs';
 import { availableParallelism } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import type { Compiled } from '../model/compile';
 import type { RunResult } from '../protocol';
-import { runPool, type PoolJob } from '../sim/pool';
-import { failedRun, runOnce } from '../sim/run';
+import { createRunPool, plainRun, runJob, type PoolJob } from '../sim/pool';
 import type { RunSpec, SweepSpec } from '../sim/sweep';
 
 export interface RunExecutor {
@@ -49,14 +48,6 @@ function findWorker(explicit?: string): string | undefined {
   return candidates.map((p) => resolve(p)).find((p) => existsSync(p));
 }
 
-/** One job in this process, as the pool's worker would run it. */
-function runHere(c: Compiled, spec: RunSpec, job: PoolJob): RunResult {
-  const input = { label: job.label, kind: job.kind ?? ('sweep' as const), sweep: job.sweep, p: c.params, x0: c.start };
-  const pr = job.params?.length ? c.makeParams(new Map(job.params)) : { ok: true as const, p: c.params };
-  if (!pr.ok) return failedRun(input, spec, { code: 'LW509', message: `${job.label}: ${pr.message}`, time: 0 });
-  return runOnce(c, spec, { ...input, p: pr.p, x0: c.startFor(pr.p, new Map(job.starts ?? [])) });
-}
-
 const tick = () => new Promise<void>((r) => setImmediate(r));
 
 export function executeRuns(text: string, c: Compiled, spec: RunSpec, o: ExecutorOptions = {}): RunExecutor {
@@ -67,17 +58,15 @@ export function executeRuns(text: string, c: Compiled, spec: RunSpec, o: Executo
       mode: 'threads',
       threads,
       async run(jobs, onDone) {
-        const out: RunResult[] = [];
-        // chunks of a few rounds of the threads, so progress shows without many pool start-ups
-        const chunk = Math.max(threads, Math.ceil(jobs.length / 8 / threads) * threads);
-        for (let i = 0; i < jobs.length; i += chunk) {
-          const part = jobs.slice(i, i + chunk);
-          const got = await runPool({ text, loop: c.name, jobs: part, threads, workerPath: worker });
-          if (got.length !== part.length) throw new Error(`the run pool returned ${got.length} of ${part.length} runs`);
-          out.push(...got);
-          onDone?.(out.length);
+        if (!jobs.length) return [];
+        const pool = createRunPool({ threads: Math.min(threads, jobs.length), workerPath: worker });
+        try {
+          const got = await pool.run({ text, loop: c.name, jobs, onProgress: onDone });
+          if (got.length !== jobs.length) throw new Error(`the run pool returned ${got.length} of ${jobs.length} runs`);
+          return got.map(plainRun);
+        } finally {
+          await pool.close();
         }
-        return out;
       },
     };
   }
@@ -88,7 +77,7 @@ export function executeRuns(text: string, c: Compiled, spec: RunSpec, o: Executo
       const out: RunResult[] = [];
       for (const job of jobs) {
         await tick();
-        out.push(runHere(c, spec, job));
+        out.push(runJob(c, spec, job));
         onDone?.(out.length);
       }
       return out;
