@@ -134,41 +134,54 @@ export function displayMetrics(s: Samples, tr: { scale: number; offset: number }
   return { ...m, iae: iaeSI / tr.scale };
 }
 
+/** Reused buffer for display values (metrics of one signal at a time; runs are synchronous). */
+let displayBuf = new Float64Array(0);
+
 /**
- * displayMetrics for the first n samples of (t, y) in SI without a converted copy: each display
- * value is computed where it is read, by the same expression, so the figures are the same. One
+ * displayMetrics for the first n samples of (t, y) in SI. Each display value is computed once,
+ * by the same expression as displayMetrics ((SI − offset) / scale), into a reused buffer (or
+ * read as it is for a signal shown in SI: scale 1, offset 0), so the figures are the same. One
  * pass gives the change, the peak and the overshoot (initial and final are known up front);
  * rise and settling read only as far as their crossings.
  */
-export function displayMetricsOf(t: ArrayLike<number>, y: ArrayLike<number>, n: number, tr: { scale: number; offset: number }, iaeSI: number, band = 0.02): RawMetrics & { iae: number } {
+export function displayMetricsOf(t: ArrayLike<number>, y: Float64Array, n: number, tr: { scale: number; offset: number }, iaeSI: number, band = 0.02): RawMetrics & { iae: number } {
   if (n === 0) return { ...rawMetrics({ t: [], y: [] }, band), iae: iaeSI / tr.scale };
   const off = tr.offset, sc = tr.scale;
-  const initial = (y[0] - off) / sc, final = (y[n - 1] - off) / sc;
+  let v = y;
+  if (off !== 0 || sc !== 1) {
+    if (displayBuf.length < n) displayBuf = new Float64Array(Math.max(n, 2 * displayBuf.length));
+    v = displayBuf;
+    for (let i = 0; i < n; i++) v[i] = (y[i] - off) / sc;
+  }
+  const initial = v[0], final = v[n - 1];
   const delta = Math.abs(final - initial);
   const dir = Math.sign(final - initial);
   let excursion = 0, peak = 0, worst = 0;
   for (let i = 0; i < n; i++) {
-    const v = (y[i] - off) / sc;
-    excursion = Math.max(excursion, Math.abs(v - initial));
-    peak = Math.max(peak, Math.abs(v));
-    worst = Math.max(worst, dir * (v - final));
+    const vi = v[i];
+    const e = Math.abs(vi - initial);
+    if (e > excursion || e !== e) excursion = Math.max(excursion, e);
+    const a = Math.abs(vi);
+    if (a > peak || a !== a) peak = Math.max(peak, a);
+    const w = dir * (vi - final);
+    if (w > worst || w !== w) worst = Math.max(worst, w);
   }
   const still = !(delta > STILL * excursion) || !(delta > 0);
   const iae = iaeSI / sc;
   if (still) return { initial, final, peak, rise: null, overshoot: null, settling: null, iae };
-  const t10 = crossingOf(t, y, n, off, sc, initial + 0.1 * (final - initial), dir);
-  const t90 = crossingOf(t, y, n, off, sc, initial + 0.9 * (final - initial), dir);
+  const t10 = crossingOf(t, v, n, initial + 0.1 * (final - initial), dir);
+  const t90 = crossingOf(t, v, n, initial + 0.9 * (final - initial), dir);
   const rise = t10 === null || t90 === null ? null : t90 - t10;
-  return { initial, final, peak, rise, overshoot: worst / delta, settling: settlingOfDisplay(t, y, n, off, sc, band * delta), iae };
+  return { initial, final, peak, rise, overshoot: worst / delta, settling: settlingOfFirst(t, v, n, band * delta), iae };
 }
 
-/** firstCrossing on display values (y − off) / sc of the first n samples. */
-function crossingOf(t: ArrayLike<number>, y: ArrayLike<number>, n: number, off: number, sc: number, level: number, dir: number): number | null {
-  if (dir * ((y[0] - off) / sc - level) >= 0) return t[0];
+/** firstCrossing over the first n samples. */
+function crossingOf(t: ArrayLike<number>, v: Float64Array, n: number, level: number, dir: number): number | null {
+  if (dir * (v[0] - level) >= 0) return t[0];
   for (let i = 1; i < n; i++) {
-    const vi = (y[i] - off) / sc;
+    const vi = v[i];
     if (dir * (vi - level) >= 0) {
-      const a = (y[i - 1] - off) / sc - level, b = vi - level;
+      const a = v[i - 1] - level, b = vi - level;
       const f = a === b ? 1 : a / (a - b);
       return t[i - 1] + f * (t[i] - t[i - 1]);
     }
@@ -176,15 +189,15 @@ function crossingOf(t: ArrayLike<number>, y: ArrayLike<number>, n: number, off: 
   return null;
 }
 
-/** settlingOf on display values (y − off) / sc of the first n samples. */
-function settlingOfDisplay(t: ArrayLike<number>, y: ArrayLike<number>, n: number, off: number, sc: number, width: number): number | null {
+/** settlingOf over the first n samples. */
+function settlingOfFirst(t: ArrayLike<number>, v: Float64Array, n: number, width: number): number | null {
   if (!(width > 0)) return null;
-  const final = (y[n - 1] - off) / sc;
+  const final = v[n - 1];
   for (let i = n - 1; i >= 0; i--) {
-    const dev = Math.abs((y[i] - off) / sc - final);
+    const dev = Math.abs(v[i] - final);
     if (dev > width) {
       if (i === n - 1) return t[i];
-      const a = dev - width, b = Math.abs((y[i + 1] - off) / sc - final) - width;
+      const a = dev - width, b = Math.abs(v[i + 1] - final) - width;
       const f = a === b ? 0 : a / (a - b);
       return t[i] + f * (t[i + 1] - t[i]);
     }

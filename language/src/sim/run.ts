@@ -98,14 +98,13 @@ class RunDriver {
   gridT = new Float64Array(0);
   grid = new Float64Array(0);
   private gridEnd = NaN;
-  // step-end (and post-breakpoint) samples, row-major nTr per sample; grown by doubling
-  stepT = new Float64Array(256);
-  stepY: Float64Array;
-  nStep = 0;
-  // grid and step-end samples merged in time order; my holds one row of `cap` per signal
+  // Samples for the metrics, merged in time order as the run goes: every grid point and every
+  // accepted step's end (a step end on a grid time is not repeated). `my` holds one row of
+  // `mCap` per signal; both grow by doubling.
   mt = new Float64Array(0);
   my = new Float64Array(0);
   mCap = 0;
+  nMerged = 0;
   readonly rhs: (t: number, x: Float64Array, dx: Float64Array) => void;
   readonly jac: (t: number, x: Float64Array, J: Float64Array) => void;
 
@@ -147,7 +146,6 @@ class RunDriver {
     }
     this.maxDev = new Float64Array(n);
     this.maxDist = new Float64Array(n);
-    this.stepY = new Float64Array(256 * nTr);
     const withAlg = c.algebraicLoops.length > 0;
     this.rhs = (tt, xx, dx) => {
       const ev = this.ev!;
@@ -204,53 +202,50 @@ class RunDriver {
     if (this.grid.length !== points * this.nTr) this.grid = new Float64Array(points * this.nTr);
   }
 
-  recordSample(t: number, tr: Float64Array): void {
-    const nTr = this.nTr;
-    if (this.nStep === this.stepT.length) {
-      const T2 = new Float64Array(this.stepT.length * 2), Y2 = new Float64Array(this.stepY.length * 2);
-      T2.set(this.stepT);
-      Y2.set(this.stepY);
-      this.stepT = T2;
-      this.stepY = Y2;
+  /** Starts a run's merged samples (room for the grid and about as many step ends). */
+  startSamples(points: number): void {
+    const need = 2 * points + 64;
+    if (this.mCap < need) {
+      this.mCap = need;
+      this.mt = new Float64Array(need);
+      this.my = new Float64Array(need * this.nTr);
     }
-    const k = this.nStep++;
-    this.stepT[k] = t;
-    const Y = this.stepY;
-    for (let j = 0, o = k * nTr; j < nTr; j++) Y[o + j] = tr[j];
+    this.nMerged = 0;
   }
 
+  private growSamples(): void {
+    const nTr = this.nTr, cap = this.mCap, cap2 = 2 * cap;
+    const t2 = new Float64Array(cap2), y2 = new Float64Array(cap2 * nTr);
+    t2.set(this.mt);
+    for (let j = 0; j < nTr; j++) y2.set(this.my.subarray(j * cap, j * cap + cap), j * cap2);
+    this.mt = t2;
+    this.my = y2;
+    this.mCap = cap2;
+  }
+
+  private appendSample(t: number, tr: Float64Array): void {
+    if (this.nMerged === this.mCap) this.growSamples();
+    const m = this.nMerged++, cap = this.mCap, y = this.my;
+    this.mt[m] = t;
+    for (let j = 0, o = m; j < this.nTr; j++, o += cap) y[o] = tr[j];
+  }
+
+  /** A step end (or the values just after a breakpoint); skipped when a grid point has this time. */
+  recordSample(t: number, tr: Float64Array): void {
+    const m = this.nMerged;
+    if (m > 0 && this.mt[m - 1] === t && this.lastWasGrid) return;
+    this.appendSample(t, tr);
+    this.lastWasGrid = false;
+  }
+
+  /** Grid point i: into the grid and the merged samples. */
   writeGrid(i: number, tr: Float64Array): void {
     const G = this.grid;
     for (let j = 0, o = i * this.nTr; j < this.nTr; j++) G[o + j] = tr[j];
+    this.appendSample(this.gridT[i], tr);
+    this.lastWasGrid = true;
   }
-
-  /** Merges the first `filled` grid points with the step-end samples into mt / my; returns the count. */
-  merge(filled: number): number {
-    const nTr = this.nTr, nStep = this.nStep, gridT = this.gridT, grid = this.grid, stepT = this.stepT, stepY = this.stepY;
-    const need = filled + nStep;
-    if (need > this.mCap) {
-      this.mCap = Math.max(need, 2 * this.mCap);
-      this.mt = new Float64Array(this.mCap);
-      this.my = new Float64Array(this.mCap * nTr);
-    }
-    const t = this.mt, y = this.my, cap = this.mCap;
-    let i = 0, k = 0, m = 0;
-    while (i < filled || k < nStep) {
-      const useGrid = k >= nStep || (i < filled && gridT[i] <= stepT[k]);
-      if (useGrid) {
-        if (k < nStep && gridT[i] === stepT[k]) k++;
-        t[m] = gridT[i];
-        for (let j = 0, o = i * nTr; j < nTr; j++) y[j * cap + m] = grid[o + j];
-        i++;
-      } else {
-        t[m] = stepT[k];
-        for (let j = 0, o = k * nTr; j < nTr; j++) y[j * cap + m] = stepY[o + j];
-        k++;
-      }
-      m++;
-    }
-    return m;
-  }
+  private lastWasGrid = false;
 }
 
 function sameValues(a: Float64Array, b: Float64Array): boolean {
@@ -328,8 +323,8 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   const trNode0 = d.trNode0, trNode1 = d.trNode1, trNode2 = d.trNode2;
   const iae = d.iae;
   iae.fill(0);
-  d.nStep = 0;
   d.gridFor(points, tEnd);
+  d.startSamples(points);
   const gridT = d.gridT;
   let nextGrid = 0;
 
@@ -771,7 +766,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
 
   const s = integrator.stats;
   const stats: SolverStats = { steps: s.steps, rejected: s.rejected, evaluations: s.evaluations, jacobians: s.jacobians, ms: now() - started };
-  const nMerged = d.merge(nextGrid);
+  const nMerged = d.nMerged;
   return assemble(d, spec, input, nMerged, atLimit, stats, error, { x, maxDev, maxDist, plantStates, opX, x0: input.x0, atol, complete: !error });
 }
 
@@ -869,7 +864,8 @@ function assemble(
     if (!tr.shown) continue;
     const scale = tr.scale, offset = tr.offset;
     const col: number[] = new Array(points);
-    for (let i = 0, o = j; i < points; i++, o += nTr) col[i] = (grid[o] - offset) / scale;
+    if (offset === 0 && scale === 1) for (let i = 0, o = j; i < points; i++, o += nTr) col[i] = grid[o];
+    else for (let i = 0, o = j; i < points; i++, o += nTr) col[i] = (grid[o] - offset) / scale;
     signals[tr.name] = col;
     // metrics in the signal's display unit, read straight from the merged SI samples
     const m = displayMetricsOf(mt, my[j], nMerged, tr, d.iae[j]);
@@ -892,8 +888,15 @@ function assemble(
     metrics[tr.name] = sm;
   }
   const ps = tail.plantStates;
-  const d0 = Float64Array.from(ps, (i) => Math.abs(tail.x0[i] - tail.opX[i]));
-  const recovered = tail.complete && recovers(d0, Float64Array.from(ps, (i) => Math.max(tail.maxDist[i], d0[i])), Float64Array.from(ps, (i) => tail.maxDev[i]), tail.atol);
+  const nps = ps.length;
+  const d0 = new Float64Array(nps), dMax = new Float64Array(nps), dTail = new Float64Array(nps);
+  for (let q = 0; q < nps; q++) {
+    const i = ps[q];
+    d0[q] = Math.abs(tail.x0[i] - tail.opX[i]);
+    dMax[q] = Math.max(tail.maxDist[i], d0[q]);
+    dTail[q] = tail.maxDev[i];
+  }
+  const recovered = tail.complete && recovers(d0, dMax, dTail, tail.atol);
   const expects = spec.expects.length ? evaluateExpects(c, spec, { traced, t: mt, y: my, iae: d.iae, atLimit, duration, complete: tail.complete }) : [];
   const t: number[] = new Array(points);
   for (let i = 0; i < points; i++) t[i] = gridT[i];
