@@ -8,6 +8,16 @@ import type { CoreContext, StepCore, TrialTrouble } from './solver-loop';
 import { Evaluator, errorNorm, failure, firstNonFinite, fmt, initialStep, newStats, worstComponent } from './solver-util';
 
 const { a: A, c: C, e: E, d: D } = DOPRI5;
+const [, C2, C3, C4, C5, C6] = C;
+const A21 = A[1][0];
+const [A31, A32] = A[2];
+const [A41, A42, A43] = A[3];
+const [A51, A52, A53, A54] = A[4];
+const [A61, A62, A63, A64, A65] = A[5];
+const [A71, , A73, A74, A75, A76] = A[6];
+const [E1, , E3, E4, E5, E6, E7] = E;
+const [D1, , D3, D4, D5, D6, D7] = D;
+if (A[6][1] !== 0 || E[1] !== 0 || D[1] !== 0) throw new Error('dopri5: the written-out stages assume the zeros of the tableau');
 const { safety: SAFE, facMin, facMax, beta: BETA, expo1: EXPO1 } = DOPRI5_CONTROL;
 /** The smallest facOld may become (HNW DOPRI5 code). */
 const FAC_OLD_FLOOR = 1e-4;
@@ -50,38 +60,46 @@ class Dopri5Core implements StepCore {
   }
 
   attempt(t: number, x: Float64Array, h: number, xNew: Float64Array): number {
+    // The stages written out with the tableau's nonzero coefficients, each sum in the order of
+    // the tableau's columns (the same arithmetic as a loop over the rows).
     const n = this.n;
     const k = this.k;
+    const k1 = k[0], k2 = k[1], k3 = k[2], k4 = k[3], k5 = k[4], k6 = k[5], k7 = k[6];
     const xs = this.xs;
-    for (let s = 1; s < 7; s++) {
-      const row = A[s];
-      // The last stage is evaluated at the new solution itself (FSAL).
-      const arg = s === 6 ? xNew : xs;
-      for (let i = 0; i < n; i++) {
-        let acc = 0;
-        for (let j = 0; j < s; j++) {
-          const aij = row[j];
-          if (aij !== 0) acc += aij * k[j][i];
-        }
-        arg[i] = x[i] + h * acc;
-      }
-      const ts = t + C[s] * h;
-      const bad = this.ev.f(ts, arg, k[s]);
-      if (bad >= 0) return this.nonFinite(ts, bad, `derivative is ${k[s][bad]}`);
-    }
-    const badX = firstNonFinite(xNew, n);
-    if (badX >= 0) return this.nonFinite(t + h, badX, `state became ${xNew[badX]}`);
+    const f = this.ctx.problem.f;
+    for (let i = 0; i < n; i++) xs[i] = x[i] + h * (A21 * k1[i]);
+    f(t + C2 * h, xs, k2);
+    for (let i = 0; i < n; i++) xs[i] = x[i] + h * (A31 * k1[i] + A32 * k2[i]);
+    f(t + C3 * h, xs, k3);
+    for (let i = 0; i < n; i++) xs[i] = x[i] + h * (A41 * k1[i] + A42 * k2[i] + A43 * k3[i]);
+    f(t + C4 * h, xs, k4);
+    for (let i = 0; i < n; i++) xs[i] = x[i] + h * (A51 * k1[i] + A52 * k2[i] + A53 * k3[i] + A54 * k4[i]);
+    f(t + C5 * h, xs, k5);
+    for (let i = 0; i < n; i++) xs[i] = x[i] + h * (A61 * k1[i] + A62 * k2[i] + A63 * k3[i] + A64 * k4[i] + A65 * k5[i]);
+    f(t + C6 * h, xs, k6);
+    // The last stage is evaluated at the new solution itself (FSAL).
+    for (let i = 0; i < n; i++) xNew[i] = x[i] + h * (A71 * k1[i] + A73 * k3[i] + A74 * k4[i] + A75 * k5[i] + A76 * k6[i]);
+    f(t + h, xNew, k7);
+    this.ctx.stats.evaluations += 6;
+    // one test for every stage and the new state: v·0 is 0 for a finite v and NaN otherwise
+    let chk = 0;
+    for (let i = 0; i < n; i++) chk += k2[i] * 0 + k3[i] * 0 + k4[i] * 0 + k5[i] * 0 + k6[i] * 0 + k7[i] * 0 + xNew[i] * 0;
+    if (chk !== 0) return this.whichNonFinite(t, h, xNew);
     const errv = this.errv;
-    for (let i = 0; i < n; i++) {
-      let acc = 0;
-      for (let j = 0; j < 7; j++) {
-        const ej = E[j];
-        if (ej !== 0) acc += ej * k[j][i];
-      }
-      errv[i] = h * acc;
-    }
+    for (let i = 0; i < n; i++) errv[i] = h * (E1 * k1[i] + E3 * k3[i] + E4 * k4[i] + E5 * k5[i] + E6 * k6[i] + E7 * k7[i]);
     const err = errorNorm(n, errv, x, xNew, this.ctx.rtol, this.ctx.atol);
     return err === err ? err : this.nonFinite(t + h, worstComponent(n, errv, x, xNew, this.ctx.rtol, this.ctx.atol), 'error estimate is NaN');
+  }
+
+  /** The first stage (in order) or new state component that is not finite, as a trial outcome. */
+  private whichNonFinite(t: number, h: number, xNew: Float64Array): number {
+    const k = this.k;
+    for (let s = 1; s < 7; s++) {
+      const bad = firstNonFinite(k[s], this.n);
+      if (bad >= 0) return this.nonFinite(t + C[s] * h, bad, `derivative is ${k[s][bad]}`);
+    }
+    const badX = firstNonFinite(xNew, this.n);
+    return this.nonFinite(t + h, Math.max(0, badX), `state became ${xNew[Math.max(0, badX)]}`);
   }
 
   propose(h: number, err: number, accepted: boolean, rejectedBefore: boolean): number {
@@ -101,25 +119,20 @@ class Dopri5Core implements StepCore {
     const k = this.k;
     const r = this.r;
     const r1 = r[0], r2 = r[1], r3 = r[2], r4 = r[3], r5 = r[4];
+    const k1 = k[0], k3 = k[2], k4 = k[3], k5 = k[4], k6 = k[5], k7 = k[6];
     for (let i = 0; i < n; i++) {
       const ydiff = xNew[i] - x[i];
-      const bspl = h * k[0][i] - ydiff;
+      const bspl = h * k1[i] - ydiff;
       r1[i] = x[i];
       r2[i] = ydiff;
       r3[i] = bspl;
-      r4[i] = ydiff - h * k[6][i] - bspl;
-      let acc = 0;
-      for (let j = 0; j < 7; j++) {
-        const dj = D[j];
-        if (dj !== 0) acc += dj * k[j][i];
-      }
-      r5[i] = h * acc;
+      r4[i] = ydiff - h * k7[i] - bspl;
+      r5[i] = h * (D1 * k1[i] + D3 * k3[i] + D4 * k4[i] + D5 * k5[i] + D6 * k6[i] + D7 * k7[i]);
     }
     this.tOld = t;
     this.hOld = h;
     // First same as last: k7 at the new point is k1 of the next step.
-    const k1 = k[0];
-    k[0] = k[6];
+    k[0] = k7;
     k[6] = k1;
   }
 
