@@ -447,7 +447,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
         if (timeDep[j]) {
           iae[j] += iaeTimeDependent(view, j, a, b);
         } else if ((y0 * y1 < 0 || y1 * y2 < 0 || y2 * y3 < 0 || y3 * y4 < 0) && !negligible(iae[j], h, y0, y1, y2, y3, y4)) {
-          iae[j] += iaeSplit(view, j, a, b, y0, y1, y2, y3, y4);
+          iae[j] += iaeSplit(view, j, a, b, y0, y1, y2, y3, y4, iae[j]);
         } else {
           iae[j] += h * (GL3_WEIGHTS[0] * Math.abs(y1) + GL3_WEIGHTS[1] * Math.abs(y2) + GL3_WEIGHTS[2] * Math.abs(y3));
         }
@@ -527,7 +527,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
    * Gauss–Legendre. No arrays or closures per call.
    */
   const iaeTs = d.iaeTs, iaeYs = d.iaeYs, iaeCuts = d.iaeCuts;
-  const iaeSplit = (view: StepView, j: number, a: number, b: number, y0: number, y1: number, y2: number, y3: number, y4: number): number => {
+  const iaeSplit = (view: StepView, j: number, a: number, b: number, y0: number, y1: number, y2: number, y3: number, y4: number, sofar: number): number => {
     const h = b - a;
     iaeTs[0] = a;
     iaeTs[1] = a + GL3_NODES[0] * h;
@@ -543,7 +543,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
     iaeCuts[nc++] = a;
     for (let k = 0; k < 4; k++) {
       const ya = iaeYs[k], yb = iaeYs[k + 1];
-      if (ya * yb < 0) iaeCuts[nc++] = signRoot(view, j, iaeTs[k], ya, iaeTs[k + 1], yb);
+      if (ya * yb < 0) iaeCuts[nc++] = signRoot(view, j, iaeTs[k], ya, iaeTs[k + 1], yb, sofar);
     }
     iaeCuts[nc++] = b;
     let total = 0;
@@ -556,12 +556,16 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   };
   /**
    * Sign change of y_j in [ta, tb] (ya·yb < 0) on the dense output: Illinois regula falsi. The
-   * cut only splits the IAE integral: a cut off by δ changes it by about |y'|·δ², so the root is
-   * taken to 1e-8 of its bracket (a change of order 1e-16 of the piece's integral), far below
-   * what the dense output itself resolves.
+   * cut only splits the IAE integral: a cut off by δ changes it by at most about 2·|y'|·δ², with
+   * |y'| ≈ max(|ya|, |yb|) / (tb − ta). The root is taken to the δ that keeps this below
+   * 0.005·rtol of the integral so far (`sofar`), and never coarser than 1e-3 of the bracket;
+   * with nothing integrated yet, to 1e-8 of the bracket.
    */
-  const signRoot = (view: StepView, j: number, ta: number, ya: number, tb: number, yb: number): number => {
-    const tolT = Math.max(1e-8 * (tb - ta), 1e-15 * Math.max(Math.abs(ta), Math.abs(tb)));
+  const signRoot = (view: StepView, j: number, ta: number, ya: number, tb: number, yb: number, sofar: number): number => {
+    const width = tb - ta;
+    const slope = Math.max(Math.abs(ya), Math.abs(yb)) / width;
+    const loose = sofar > 0 && slope > 0 ? Math.min(1e-3 * width, Math.sqrt((0.0025 * rtol * sofar) / slope)) : 0;
+    const tolT = Math.max(1e-8 * width, loose, 1e-15 * Math.max(Math.abs(ta), Math.abs(tb)));
     let side = 0;
     for (let it = 0; it < 60 && tb - ta > tolT; it++) {
       let tm = (ta * yb - tb * ya) / (yb - ya);
