@@ -504,6 +504,10 @@ export function compileLoop(input: LoopCompileInput): CompiledLoop | undefined {
     source: mod.source,
     symbol: loop,
     tracedTimeDependent: traceNodes.map((id) => (g.nodes[id].deps & DEP.t) !== 0),
+    tracedSameAs: traceNodes.map((id, i) => {
+      const first = traceNodes.indexOf(id);
+      return first < i && traced[first].offset === traced[i].offset ? first : i;
+    }),
     text: input.text,
     periodOf: (k, p) => evaluate(g, [insts.find((i) => i.name === sampledList[k].instance)!.disc!.constant(insts.find((i) => i.name === sampledList[k].instance)!.plan.sample!.period)], { p })[0],
   };
@@ -522,6 +526,11 @@ export interface LoopExtras {
   periodOf(k: number, p: Float64Array): number;
   /** Per traced signal: does it depend on time directly (signal functions), not only through states? */
   tracedTimeDependent: boolean[];
+  /**
+   * Per traced signal: the first traced signal with the same value (the same node of the loop's
+   * expression graph, e.g. an output that is a state) and the same unit offset, or its own index.
+   */
+  tracedSameAs: number[];
   /** The loop's symbol and the document text (run options, sweeps and expects are read from them). */
   symbol: LoopSymbol;
   text: string;

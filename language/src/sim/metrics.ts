@@ -413,8 +413,9 @@ function metricValue(c: Compiled, d: ExpectData, name: string, args: Expr[]): nu
       const relative = band.kind === 'number' || (band.kind === 'quantity' && isPureNumberUnit(band.unit.text));
       // an absolute band is a width: the offset of its unit does not apply (2 [degC] is 2 K wide)
       const bv = constantOf(c, band) - (!relative && band.kind === 'quantity' ? displayUnit(band.unit.text).offset : 0);
-      const w = bandWidth(s, bv, relative);
-      if (relative && changeOf(s).still) throw new ExpectError(`${nameOf()} does not change, so a relative band has no width`);
+      const change = relative ? changeOf(s) : undefined;
+      const w = change ? bv * change.delta : bv; // bandWidth, with the change read once
+      if (change && change.still) throw new ExpectError(`${nameOf()} does not change, so a relative band has no width`);
       return need(settlingOf(s, w), 'settling time');
     }
     default:

@@ -442,6 +442,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
       view.dense(a + GL3_N2 * h, xq);
       ev.traced(a + GL3_N2 * h, xq, trNode2);
       for (let j = 0; j < nTr; j++) {
+        if (sameAs[j] !== j) continue; // its IAE is that of the signal it repeats
         const o = off[j];
         const y0 = trPrev[j] - o, y1 = trNode0[j] - o, y2 = trNode1[j] - o, y3 = trNode2[j] - o, y4 = trBuf[j] - o;
         if (timeDep[j]) {
@@ -480,6 +481,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   };
   const trOne = d.trOne;
   const timeDep = c.tracedTimeDependent;
+  const sameAs = c.tracedSameAs;
   /** ∫|y_j| for a signal that varies with time directly (the step size does not follow it): bisect until 3-point rules agree. */
   const gl3 = (view: StepView, j: number, a: number, b: number) => {
     const h = b - a;
@@ -768,6 +770,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   // grid points not reached (failed runs) stay NaN
   for (let i = nextGrid; i < points; i++) for (let j = 0; j < nTr; j++) d.grid[i * nTr + j] = NaN;
 
+  for (let j = 0; j < nTr; j++) if (sameAs[j] !== j) iae[j] = iae[sameAs[j]];
   const s = integrator.stats;
   const stats: SolverStats = { steps: s.steps, rejected: s.rejected, evaluations: s.evaluations, jacobians: s.jacobians, ms: now() - started };
   const nMerged = d.nMerged;
