@@ -80,4 +80,19 @@ describe('IAE on the dense output', () => {
     const [run] = simulate(c);
     expect(Math.abs(run.metrics['Hold.out'].iae - 20)).toBeLessThan(1e-6);
   });
+
+  it('∫|cos 2t| over two periods of an oscillator state is 4, the sign changes falling inside steps (calculus)', () => {
+    // x'' = −4x, x(0) = 1: x = cos 2t; ∫₀^{2π}|cos 2t| dt = 8 · ∫₀^{π/4} cos 2t dt = 4. The
+    // state's zeros lie inside the integrator's steps, where the IAE is cut at the root.
+    const c = compile(`plant Spring { state x [1] = 1
+      state v [1/s]
+      output out [1] = x
+      x' = v
+      v' = -4 [1/s^2] * x }
+      loop Swing { simulate 6.283185307179586 [s] { tolerance = 1e-9, points = 5 }
+        show Spring.out }`);
+    const [run] = simulate(c);
+    expect(run.error).toBeUndefined();
+    expect(Math.abs(run.metrics['Spring.out'].iae - 4)).toBeLessThan(1e-7);
+  });
 });

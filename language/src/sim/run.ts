@@ -283,6 +283,54 @@ export function fmtTime(t: number): string {
 }
 
 /** One run of a compiled loop. Never throws. */
+/** Nodes of a step's five samples in θ = (t − a) / h: its ends and the Gauss–Legendre nodes. */
+const QUARTIC_NODES = [0, GL3_NODES[0], GL3_NODES[1], GL3_NODES[2], 1];
+/** Their Lagrange weights 1 / Π_{m≠k} (θ_k − θ_m). */
+const QUARTIC_WEIGHTS = QUARTIC_NODES.map((tk, k) => 1 / QUARTIC_NODES.reduce((p, tm, m) => (m === k ? p : p * (tk - tm)), 1));
+
+/** The quartic through the five samples ys at θ. */
+function quartic(ys: Float64Array, th: number): number {
+  const d0 = th - QUARTIC_NODES[0], d1 = th - QUARTIC_NODES[1], d2 = th - QUARTIC_NODES[2], d3 = th - QUARTIC_NODES[3], d4 = th - QUARTIC_NODES[4];
+  return (
+    QUARTIC_WEIGHTS[0] * ys[0] * d1 * d2 * d3 * d4 +
+    QUARTIC_WEIGHTS[1] * ys[1] * d0 * d2 * d3 * d4 +
+    QUARTIC_WEIGHTS[2] * ys[2] * d0 * d1 * d3 * d4 +
+    QUARTIC_WEIGHTS[3] * ys[3] * d0 * d1 * d2 * d4 +
+    QUARTIC_WEIGHTS[4] * ys[4] * d0 * d1 * d2 * d3
+  );
+}
+
+/**
+ * θ of the sign change of the quartic through a step's five samples between samples k and k+1
+ * (ys[k]·ys[k+1] < 0), by Illinois regula falsi to 1e-12 in θ. The dense output of the
+ * 'adaptive' method is a quartic in θ, so for a signal linear in the states this is the root
+ * of the dense output itself; otherwise the quartic is off by the order of the dense output's
+ * own error, and a cut off by δ changes the IAE by only about 2·|y'|·δ².
+ */
+export function quarticRoot(ys: Float64Array, k: number): number {
+  let ta = QUARTIC_NODES[k], tb = QUARTIC_NODES[k + 1];
+  let ya = ys[k], yb = ys[k + 1];
+  let side = 0;
+  for (let it = 0; it < 80 && tb - ta > 1e-12; it++) {
+    let tm = (ta * yb - tb * ya) / (yb - ya);
+    if (!(tm > ta && tm < tb)) tm = 0.5 * (ta + tb);
+    const ym = quartic(ys, tm);
+    if (ym === 0) return tm;
+    if (ym * ya < 0) {
+      tb = tm;
+      yb = ym;
+      if (side === -1) ya /= 2;
+      side = -1;
+    } else {
+      ta = tm;
+      ya = ym;
+      if (side === 1) yb /= 2;
+      side = 1;
+    }
+  }
+  return 0.5 * (ta + tb);
+}
+
 export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOptions = {}): RunResult {
   const started = now();
   const n = c.n;
@@ -448,7 +496,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
         if (timeDep[j]) {
           iae[j] += iaeTimeDependent(view, j, a, b);
         } else if ((y0 * y1 < 0 || y1 * y2 < 0 || y2 * y3 < 0 || y3 * y4 < 0) && !negligible(iae[j], h, y0, y1, y2, y3, y4)) {
-          iae[j] += iaeSplit(view, j, a, b, y0, y1, y2, y3, y4, iae[j]);
+          iae[j] += iaeSplit(view, j, a, b, y0, y1, y2, y3, y4);
         } else {
           iae[j] += h * (GL3_WEIGHTS[0] * Math.abs(y1) + GL3_WEIGHTS[1] * Math.abs(y2) + GL3_WEIGHTS[2] * Math.abs(y3));
         }
@@ -525,11 +573,12 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   };
   /**
    * ∫|y_j| over [a, b] when y_j changes sign between the five known values (ends and Gauss nodes):
-   * cut at each sign change (located on the dense output) and integrate the pieces by 3-point
-   * Gauss–Legendre. No arrays or closures per call.
+   * cut at each sign change and integrate the pieces by 3-point Gauss–Legendre on the dense
+   * output. The cuts are the roots of the quartic through the five values (see quarticRoot), so
+   * locating them costs no further evaluations. No arrays or closures per call.
    */
   const iaeTs = d.iaeTs, iaeYs = d.iaeYs, iaeCuts = d.iaeCuts;
-  const iaeSplit = (view: StepView, j: number, a: number, b: number, y0: number, y1: number, y2: number, y3: number, y4: number, sofar: number): number => {
+  const iaeSplit = (view: StepView, j: number, a: number, b: number, y0: number, y1: number, y2: number, y3: number, y4: number): number => {
     const h = b - a;
     iaeTs[0] = a;
     iaeTs[1] = a + GL3_NODES[0] * h;
@@ -545,7 +594,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
     iaeCuts[nc++] = a;
     for (let k = 0; k < 4; k++) {
       const ya = iaeYs[k], yb = iaeYs[k + 1];
-      if (ya * yb < 0) iaeCuts[nc++] = signRoot(view, j, iaeTs[k], ya, iaeTs[k + 1], yb, sofar);
+      if (ya * yb < 0) iaeCuts[nc++] = a + h * quarticRoot(iaeYs, k);
     }
     iaeCuts[nc++] = b;
     let total = 0;
@@ -556,40 +605,6 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
     }
     return total;
   };
-  /**
-   * Sign change of y_j in [ta, tb] (ya·yb < 0) on the dense output: Illinois regula falsi. The
-   * cut only splits the IAE integral: a cut off by δ changes it by at most about 2·|y'|·δ², with
-   * |y'| ≈ max(|ya|, |yb|) / (tb − ta). The root is taken to the δ that keeps this below
-   * 0.005·rtol of the integral so far (`sofar`), and never coarser than 1e-3 of the bracket;
-   * with nothing integrated yet, to 1e-8 of the bracket.
-   */
-  const signRoot = (view: StepView, j: number, ta: number, ya: number, tb: number, yb: number, sofar: number): number => {
-    const width = tb - ta;
-    const slope = Math.max(Math.abs(ya), Math.abs(yb)) / width;
-    const loose = sofar > 0 && slope > 0 ? Math.min(1e-3 * width, Math.sqrt((0.0025 * rtol * sofar) / slope)) : 0;
-    const tolT = Math.max(1e-8 * width, loose, 1e-15 * Math.max(Math.abs(ta), Math.abs(tb)));
-    let side = 0;
-    for (let it = 0; it < 60 && tb - ta > tolT; it++) {
-      let tm = (ta * yb - tb * ya) / (yb - ya);
-      if (!(tm > ta && tm < tb)) tm = 0.5 * (ta + tb);
-      const ym = sig(view, j, tm);
-      if (ym === 0) return tm;
-      if (ym * ya < 0) {
-        tb = tm;
-        yb = ym;
-        if (side === -1) ya /= 2;
-        side = -1;
-      } else {
-        ta = tm;
-        ya = ym;
-        if (side === 1) yb /= 2;
-        side = 1;
-      }
-      if (Math.abs(ym) <= 1e-14 * (Math.abs(ya) + Math.abs(yb))) return tm;
-    }
-    return 0.5 * (ta + tb);
-  };
-
   // ---- stops: breakpoints and sample instants ----
   const bps = ev.breakpoints().filter((t) => t > 0 && t < tEnd);
   const nSampled = c.sampled.length;
