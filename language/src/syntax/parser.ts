@@ -122,6 +122,9 @@ const NONE: never[] = [];
 const newFrame = (): Frame => ({ subs: [] });
 
 const isPrefix = (tt: unknown): boolean => tt === T.Minus || tt === T.Plus || tt === Kw.not;
+const OPERATORS = new Set<unknown>([Kw.or, Kw.and, T.LessEq, T.GreaterEq, T.EqEq, T.NotEq, T.Less, T.Greater, T.Plus, T.Minus, T.Star, T.Slash, T.Caret]);
+/** A token that the expression rule's operator alternatives start with. */
+const isOperator = (tt: unknown): boolean => OPERATORS.has(tt);
 
 /**
  * The frame of an operand, with every field it may get in place from the start: operands are
@@ -213,6 +216,12 @@ function binaryOp(image: string): A.BinaryOp {
  * (`-x^2` is −(x²), `-a*b` is (−a)·b).
  */
 function flatExpression(operands: unknown[], ops: IToken[], span: Span): A.Expr {
+  // the commonest expression is one operand without prefixes: its primary as it is
+  if (ops.length === 0 && operands.length === 1 && operands[0]) {
+    const o = resolve(operands[0], span) as Operand;
+    if (!o.pfx || o.pfx.length === 0) return expr(o.prim, o.span);
+    operands = [o];
+  }
   let pos = 0; // operand being read; ops[pos] follows operands[pos]
   let pre = 0; // prefix operators of operands[pos] already read
   const empty = (at: number): A.Expr => ({ kind: 'error', span: { start: at, end: at } });
@@ -838,6 +847,8 @@ export class LoopParser extends EmbeddedActionsParser {
     (f) => {
       f.subs.push(this.SUBRULE(this.operand));
       this.exTop = f;
+      // most expressions are one operand: the repetition runs only when an operator continues it
+      if (!this.RECORDING_PHASE && !(isOperator(this.LA(1).tokenType) && this.continues())) return;
       this.MANY((this.continuation ??= {
         GATE: () => this.continues(),
         DEF: () => {
