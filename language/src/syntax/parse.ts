@@ -5,7 +5,7 @@ import type { IRecognitionException, IToken } from 'chevrotain';
 import { DiagnosticSink, type Span } from '../diagnostics';
 import type { Expr, FileAst } from './ast';
 import { getParser } from './parser';
-import { LBracket, LCurly, lexLoop, LParen, RBracket, RCurly, RParen, UnitLit, UnterminatedString } from './tokens';
+import { lexLoop, UnitLit, UnterminatedString } from './tokens';
 
 export interface ParseResult {
   ast: FileAst;
@@ -22,8 +22,8 @@ export function parse(text: string, sink: DiagnosticSink): ParseResult {
     const ch = text.slice(start, end);
     sink.error('LW104', { start, end }, `unknown character '${ch}'`);
   }
-  for (const t of lexed.tokens) {
-    if (t.tokenType === UnitLit && !t.image.endsWith(']')) {
+  for (const t of lexed.unclosed) {
+    if (t.tokenType === UnitLit) {
       sink.error('LW102', { start: t.startOffset, end: t.startOffset + t.image.length }, "expected ']' to close the unit");
     } else if (t.tokenType === UnterminatedString) {
       sink.error('LW103', { start: t.startOffset, end: t.startOffset + t.image.length }, 'expected \'"\' to close the string before the end of the line');
@@ -31,7 +31,7 @@ export function parse(text: string, sink: DiagnosticSink): ParseResult {
   }
   const comments = (lexed.groups.comments ?? []) as IToken[];
   const parser = getParser();
-  parser.setInput(dropDeepNesting(lexed.tokens, sink), text);
+  parser.setInput(lexed.maxDepth > MAX_BRACKET_DEPTH ? dropDeepNesting(lexed.tokens, sink) : lexed.tokens, text);
   let blocks: FileAst['blocks'] = [];
   try {
     blocks = parser.parseFile();
@@ -58,17 +58,8 @@ export const MAX_BRACKET_DEPTH = 128;
  * so that a pathological line cannot exhaust the parser's stack and lose the rest of the file.
  */
 function dropDeepNesting(tokens: IToken[], sink: DiagnosticSink): IToken[] {
-  let depth = 0;
-  let max = 0;
-  for (const t of tokens) {
-    const tt = t.tokenType;
-    if (tt === LParen || tt === LBracket) max = Math.max(max, ++depth);
-    else if (tt === RParen || tt === RBracket) depth = Math.max(0, depth - 1);
-    else if (tt === LCurly || tt === RCurly) depth = 0;
-  }
-  if (max <= MAX_BRACKET_DEPTH) return tokens;
   const kept: IToken[] = [];
-  depth = 0;
+  let depth = 0;
   let dropStart = -1;
   let dropEnd = -1;
   for (const t of tokens) {

@@ -186,22 +186,43 @@ const loopLexer = new Lexer(allTokens, {
   skipValidations: true,
 });
 
-export type LexResult = ReturnType<Lexer['tokenize']>;
+export type LexResult = ReturnType<Lexer['tokenize']> & {
+  /** Unit tokens without their ']' and strings without their closing quote, in order. */
+  unclosed: IToken[];
+  /** Deepest nesting of ( and [ (reset at braces). */
+  maxDepth: number;
+};
 
-/** Lexes a document: the lexer proper, then keywords retyped from identifiers. */
+/**
+ * Lexes a document: the lexer proper, then one pass over the tokens that retypes keywords from
+ * identifiers and notes unclosed units and strings and the deepest bracket nesting.
+ */
 export function lexLoop(text: string): LexResult {
   const r = loopLexer.tokenize(text);
   const toks = r.tokens;
+  const unclosed: IToken[] = [];
+  let depth = 0;
+  let maxDepth = 0;
   for (let i = 0; i < toks.length; i++) {
     const t = toks[i];
-    if (t.tokenType !== Ident) continue;
-    const kw = keywordOf.get(t.image);
-    if (kw !== undefined) {
-      t.tokenType = kw;
-      t.tokenTypeIdx = kw.tokenTypeIdx!;
+    const tt = t.tokenType;
+    if (tt === Ident) {
+      const kw = keywordOf.get(t.image);
+      if (kw !== undefined) {
+        t.tokenType = kw;
+        t.tokenTypeIdx = kw.tokenTypeIdx!;
+      }
+    } else if (tt === LParen || tt === LBracket) {
+      if (++depth > maxDepth) maxDepth = depth;
+    } else if (tt === RParen || tt === RBracket) {
+      if (depth > 0) depth--;
+    } else if (tt === LCurly || tt === RCurly) {
+      depth = 0;
+    } else if ((tt === UnitLit && !t.image.endsWith(']')) || tt === UnterminatedString) {
+      unclosed.push(t);
     }
   }
-  return r;
+  return Object.assign(r, { unclosed, maxDepth });
 }
 
 export function tokenMatches(tok: IToken, type: TokenType): boolean {
