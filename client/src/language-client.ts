@@ -3,6 +3,7 @@
 // need it say so, and the rest (colouring, snippets, brackets) keep working.
 import * as vscode from 'vscode';
 import { existsSync } from 'node:fs';
+import { SERVER_NODE_FLAGS } from '../../language/src/protocol';
 import {
   CloseAction,
   ErrorAction,
@@ -96,8 +97,8 @@ export class ServerConnection implements vscode.Disposable {
     }
     const module = this.serverPath;
     const serverOptions: ServerOptions = {
-      run: { module, transport: TransportKind.ipc },
-      debug: { module, transport: TransportKind.ipc, options: { execArgv: ['--nolazy', '--inspect=6011'] } },
+      run: { module, transport: TransportKind.ipc, options: { execArgv: [...SERVER_NODE_FLAGS] } },
+      debug: { module, transport: TransportKind.ipc, options: { execArgv: [...SERVER_NODE_FLAGS, '--nolazy', '--inspect=6011'] } },
     };
     const clientOptions: LanguageClientOptions = {
       documentSelector: [

@@ -8,9 +8,10 @@ import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { createRequire } from 'node:module';
 import { generateDocument } from './generate.mjs';
-import { projectRoot } from './load.mjs';
+import { loadTs, projectRoot } from './load.mjs';
 
 const require = createRequire(import.meta.url);
+const { SERVER_NODE_FLAGS } = await loadTs('language/src/protocol.ts');
 const { createMessageConnection, StreamMessageReader, StreamMessageWriter } = require('vscode-jsonrpc/node');
 
 const server = join(projectRoot, 'dist', 'server.js');
@@ -31,7 +32,8 @@ const pct = (xs, p) => {
 const ms = (x) => (x >= 100 ? x.toFixed(0) : x.toFixed(1));
 
 function start() {
-  const proc = spawn(process.execPath, [server, '--stdio'], { cwd: projectRoot });
+  // started as the extension starts it (with the server's node flags)
+  const proc = spawn(process.execPath, [...SERVER_NODE_FLAGS, server, '--stdio'], { cwd: projectRoot });
   const conn = createMessageConnection(new StreamMessageReader(proc.stdout), new StreamMessageWriter(proc.stdin));
   const waiters = [];
   conn.onNotification('textDocument/publishDiagnostics', (p) => {
