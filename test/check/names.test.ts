@@ -154,6 +154,17 @@ describe('recovery', () => {
     expect([d.span.start, d.span.end]).toEqual([m.spans[0].start, m.spans[0].end]);
   });
 
+  it('reports a number whose exponent has no digits once, over the whole number (LW105)', () => {
+    for (const bad of ['1e+', '2.5e', '3E-']) {
+      const m = marked(`plant P {\n  param k = ⟦${bad}⟧\n  param j = 2 * k\n}`);
+      const a = analyze(m.text);
+      expect(a.diagnostics.map((d) => d.code)).toEqual(['LW105']);
+      expect([a.diagnostics[0].span.start, a.diagnostics[0].span.end]).toEqual([m.spans[0].start, m.spans[0].end]);
+    }
+    // complete exponents, and a number run into a keyword, are not affected
+    expect(analyze(`plant P {\n  param k = 1e3 * 2.5E-2 + .5e+1\n  param j = if k > 0 then 1else 2\n}`).diagnostics).toEqual([]);
+  });
+
   it('explains a line that starts with an operator', () => {
     const a = analyze(`plant P {\n  state x [m]\n  input u [m/s]\n  x' = u\n    - u\n}`);
     const d = a.diagnostics.find((x) => x.code === 'LW101')!;

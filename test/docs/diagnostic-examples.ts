@@ -46,7 +46,7 @@ export const EXAMPLES: Record<string, CodeExample> = {
   LW102: f(`plant P {\n  param k = 2 [m/s\n}`, "Close the unit with ']'."),
   LW103: f(`plant P "a description that never ends {\n}`, 'Close the string with a double quote on the same line.'),
   LW104: f(`plant P {\n  param k = 2 @ 3\n}`, 'Remove the character; only the operators of the language are allowed.'),
-  LW105: t(`param k = 1e+   # a number whose exponent is missing`, 'Write the number in full, as in 1e3 or 0.5.'),
+  LW105: f(`plant P {\n  param k = 1e+   # a number whose exponent is missing\n}`, 'Write the number in full, as in 1e3 or 0.5.'),
   LW106: t(`param k = ((((((((((((((( ... hundreds of levels ... )))))))))))))))`, 'Split the expression with params or lets.'),
   LW201: f(`plant P {\n  param k = gain * 2\n}`, 'Declare the name (here gain) or correct its spelling.'),
   LW202: f(`plant P {\n  param k = 1\n  param k = 2\n}`, 'Rename one of the two.'),

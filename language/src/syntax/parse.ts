@@ -22,6 +22,9 @@ export function parse(text: string, sink: DiagnosticSink): ParseResult {
     const ch = text.slice(start, end);
     sink.error('LW104', { start, end }, `unknown character '${ch}'`);
   }
+  for (const t of lexed.badNumbers) {
+    sink.error('LW105', { start: t.startOffset, end: t.startOffset + t.image.length }, `'${t.image}' is not a number: its exponent has no digits (write it in full, as in 1e3)`);
+  }
   for (const t of lexed.unclosed) {
     if (t.tokenType === UnitLit) {
       sink.error('LW102', { start: t.startOffset, end: t.startOffset + t.image.length }, "expected ']' to close the unit");

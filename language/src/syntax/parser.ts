@@ -994,7 +994,8 @@ export class LoopParser extends EmbeddedActionsParser {
     const num = f.num as IToken | undefined;
     if (num) {
       const numberSpan = tokSpan(num, span);
-      const value = Number(num.image);
+      // a number with a missing exponent (reported as LW105) reads as its mantissa
+      const value = T.missingExponent(num.image) ? Number(num.image.replace(/[eE][+-]?$/, '')) : Number(num.image);
       const u = unit(f.unit as IToken | undefined);
       if (num.isInsertedInRecovery || !validOffset(num.startOffset)) return { kind: 'error', span: numberSpan };
       if (u) return { kind: 'quantity', span: { start: numberSpan.start, end: u.outer.end }, value, text: num.image, numberSpan, unit: u };

@@ -115,7 +115,22 @@ function matchUnit(text: string, offset: number, tokens: IToken[]): RegExpExecAr
   return m;
 }
 
-export const NumberLit = createToken({ name: 'NumberLit', pattern: /(?:\d+(?:\.\d+)?|\.\d+)(?:[eE][+-]?\d+)?/, label: 'a number' });
+/**
+ * A number. An exponent marker with no digits after it (`1e+`, `2.5e`) is read as part of the
+ * number, so that it is reported as one invalid number (LW105) rather than as a number followed
+ * by a stray name; `1else` stays a number and a keyword.
+ */
+export const NumberLit = createToken({
+  name: 'NumberLit',
+  pattern: /(?:\d+(?:\.\d+)?|\.\d+)(?:[eE][+-]?\d+|[eE][+-](?!\d)|[eE](?![A-Za-z0-9_]))?/,
+  label: 'a number',
+  start_chars_hint: ['0', '1', '2', '3', '4', '5', '6', '7', '8', '9', '.'],
+});
+/** A number whose exponent has no digits (see NumberLit). */
+export function missingExponent(image: string): boolean {
+  const c = image.charCodeAt(image.length - 1);
+  return c === 101 || c === 69 || c === 43 || c === 45; // e E + -
+}
 export const UnitLit = createToken({ name: 'UnitLit', pattern: { exec: matchUnit }, line_breaks: false, label: 'a unit in brackets', start_chars_hint: ['['] });
 
 export const Arrow = createToken({ name: 'Arrow', pattern: /->/, label: "'->'" });
@@ -189,6 +204,8 @@ const loopLexer = new Lexer(allTokens, {
 export type LexResult = ReturnType<Lexer['tokenize']> & {
   /** Unit tokens without their ']' and strings without their closing quote, in order. */
   unclosed: IToken[];
+  /** Numbers whose exponent has no digits (`1e+`), in order. */
+  badNumbers: IToken[];
   /** Deepest nesting of ( and [ (reset at braces). */
   maxDepth: number;
 };
@@ -201,6 +218,7 @@ export function lexLoop(text: string): LexResult {
   const r = loopLexer.tokenize(text);
   const toks = r.tokens;
   const unclosed: IToken[] = [];
+  const badNumbers: IToken[] = [];
   let depth = 0;
   let maxDepth = 0;
   for (let i = 0; i < toks.length; i++) {
@@ -218,11 +236,13 @@ export function lexLoop(text: string): LexResult {
       if (depth > 0) depth--;
     } else if (tt === LCurly || tt === RCurly) {
       depth = 0;
+    } else if (tt === NumberLit) {
+      if (missingExponent(t.image)) badNumbers.push(t);
     } else if ((tt === UnitLit && !t.image.endsWith(']')) || tt === UnterminatedString) {
       unclosed.push(t);
     }
   }
-  return Object.assign(r, { unclosed, maxDepth });
+  return Object.assign(r, { unclosed, badNumbers, maxDepth });
 }
 
 export function tokenMatches(tok: IToken, type: TokenType): boolean {
