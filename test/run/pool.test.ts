@@ -4,13 +4,15 @@
 
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { build } from 'esbuild';
+import fc from 'fast-check';
 import { mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { analyze } from '../../language/src/analysis';
 import type { RunResult } from '../../language/src/protocol';
 import { compileForRun } from '../../language/src/runs';
-import { createRunPool, packRuns, plainRun, runJob, runPool, unpackRuns, type PoolJob, type PooledRun, type RunPool } from '../../language/src/sim/pool';
+import { createRunPool, plainRun, runJob, runPool, type PoolJob, type PooledRun, type RunPool } from '../../language/src/sim/pool';
+import { RunPacker, unpackRuns, type WireBatch } from '../../language/src/sim/pool-wire';
 import { simulate } from '../../language/src/sim/run';
 import { runSpec, sweepJobs } from '../../language/src/sim/sweep';
 import { compile, sample } from './helpers';
@@ -50,27 +52,76 @@ describe('run pool', () => {
     });
   }, 60000);
 
-  it('packs runs into one buffer and unpacks them to the same runs', () => {
+});
+
+describe('runs on the wire', () => {
+  /** Packs runs and unpacks them from copies of what would be posted (buffers included). */
+  const roundTrip = (packer: RunPacker, runs: RunResult[]): PooledRun[] => unpackRuns(structuredClone(packer.pack(runs).batch));
+
+  it('come back as the same runs, failed ones too, with the samples as views', () => {
     const jobs: PoolJob[] = [...tilts(3), { label: 'kd 0', params: [['Steady.kd', 0]] }, { label: 'no start', starts: [['Boom.tilt', NaN]] }];
     const runs = here(boom, jobs);
     const copy = structuredClone(runs);
-    const packed = packRuns(runs);
-    expect(packed.data.length).toBe(runs.reduce((s, r) => s + r.t.length + Object.values(r.signals).reduce((a, c) => a + c.length, 0), 0));
-    const back = unpackRuns(structuredClone(packed.runs), packed.data.slice());
-    expect(back.every((r) => r.t instanceof Float64Array)).toBe(true);
+    const packer = new RunPacker();
+    const { batch } = packer.pack(runs);
+    expect(batch.samples).toBe(runs.reduce((s, r) => s + r.t.length + Object.values(r.signals).reduce((a, c) => a + c.length, 0), 0));
+    const back = unpackRuns(structuredClone(batch));
+    expect(back.every((r) => r.t instanceof Float64Array && Object.values(r.signals).every((v) => v instanceof Float64Array))).toBe(true);
     const plain = back.map(plainRun);
-    expect(plain).toEqual(copy);
+    expect(plain).toStrictEqual(copy);
     expect(plain.map((r) => Object.keys(r))).toEqual(copy.map((r) => Object.keys(r)));
-    expect(plain.every((r) => Array.isArray(r.t) && Object.values(r.signals).every((s) => Array.isArray(s)))).toBe(true);
-    expect(JSON.parse(JSON.stringify(plain))).toEqual(JSON.parse(JSON.stringify(copy)));
+    expect(plain.map((r) => Object.keys(r.metrics[Object.keys(r.metrics)[0]] ?? {}))).toEqual(copy.map((r) => Object.keys(r.metrics[Object.keys(r.metrics)[0]] ?? {})));
+    expect(plain.every((r) => Array.isArray(r.t) && Object.values(r.signals).every((v) => Array.isArray(v)))).toBe(true);
+    expect(JSON.stringify(plain)).toBe(JSON.stringify(copy));
+    // the packer's scratch serves the next batch
+    expect(roundTrip(packer, runs.slice(0, 2)).map(plainRun)).toStrictEqual(copy.slice(0, 2));
   });
 
-  it('rejects packed samples that do not match their runs', () => {
-    const packed = packRuns(here(boom, tilts(2)));
-    expect(() => unpackRuns(structuredClone(packed.runs), packed.data.subarray(0, packed.data.length - 1))).toThrow(/packed samples end before/);
-    const more = new Float64Array(packed.data.length + 1);
-    more.set(packed.data);
-    expect(() => unpackRuns(structuredClone(packed.runs), more)).toThrow(/1 packed samples are left over/);
+  it('keep any values as they were', () => {
+    const packer = new RunPacker();
+    const samples = fc.array(fc.double(), { maxLength: 20 });
+    const run = fc.record({
+      label: fc.string(),
+      t: samples,
+      signals: fc.dictionary(fc.string(), samples, { maxKeys: 4 }),
+      extra: fc.anything({ maxDepth: 4, withDate: true, withMap: true, withSet: true, withBigInt: true, withTypedArray: true, withNullPrototype: true }),
+      odd: fc.constantFrom<unknown>(undefined, null, -0, NaN, Infinity, -Infinity, 'x', true, false, [[[]]], { __proto__: null, a: 1 }),
+    });
+    fc.assert(
+      fc.property(fc.array(run, { maxLength: 5 }), (runs) => {
+        const want = structuredClone(runs);
+        const got = roundTrip(packer, runs as unknown as RunResult[]).map((r) => plainRun(r));
+        expect(got).toStrictEqual(want);
+      }),
+      { numRuns: 300 },
+    );
+  });
+
+  it('keep keys named __proto__ as own keys, and deep values', () => {
+    const r = JSON.parse('{"label":"p","t":[1],"signals":{"__proto__":[2,3]},"metrics":{"__proto__":{"final":4}}}') as RunResult;
+    let deep: unknown = 'bottom';
+    for (let i = 0; i < 40; i++) deep = { d: [deep] };
+    const got = roundTrip(new RunPacker(), [{ ...r, deep } as unknown as RunResult]).map(plainRun)[0];
+    expect(Object.keys(got.signals)).toEqual(['__proto__']);
+    expect(Object.getPrototypeOf(got.signals)).toBe(Object.prototype);
+    expect(Object.getOwnPropertyDescriptor(got.signals, '__proto__')?.value).toEqual([2, 3]);
+    expect(Object.getOwnPropertyDescriptor(got.metrics, '__proto__')?.value).toEqual({ final: 4 });
+    expect((got as unknown as { deep: unknown }).deep).toStrictEqual(deep);
+  });
+
+  it('are refused with a message when a batch does not hold together', () => {
+    const { batch } = new RunPacker().pack(here(boom, tilts(2)));
+    const bad = (f: (b: WireBatch) => void) => {
+      const b = structuredClone(batch);
+      f(b);
+      return () => unpackRuns(b);
+    };
+    expect(bad((b) => (b.data = b.data.subarray(0, b.data.length - 1)))).toThrow(/run pool: a batch has fewer numbers than its values/);
+    expect(bad((b) => (b.runs = 3))).toThrow(/run pool: a batch ends in the middle of a value/);
+    expect(bad((b) => (b.runs = 1))).toThrow(/left over/);
+    expect(bad((b) => (b.samples = b.data.length + 1))).toThrow(/claims/);
+    expect(bad((b) => (b.strs = []))).toThrow(/refers to string 0 of 0/);
+    expect(bad((b) => (b.ops = Int32Array.from(b.ops, (x, i) => (i === 0 ? 99 : x))))).toThrow(/unknown op code 99/);
   });
 });
 

@@ -1,16 +1,18 @@
 // A worker of the run pool (pool.ts): compiles the loop of a 'load' once and keeps it for the
 // batches that follow; runs each batch's jobs one after another as the main thread would
-// (runJob), and posts the batch's results packed (packRuns) with their sample buffer transferred.
+// (runJob), and posts the batch's results packed (pool-wire.ts) with their buffers transferred.
 
 import { parentPort } from 'node:worker_threads';
 import { analyze } from '../analysis';
 import type { Compiled } from '../model/compile';
 import type { RunResult } from '../protocol';
 import { compileForRun } from '../runs';
-import { packRuns, runJob, type WorkerReply, type WorkerRequest } from './pool';
+import { runJob, type WorkerReply, type WorkerRequest } from './pool';
+import { RunPacker } from './pool-wire';
 import type { RunOptions } from './run';
 import { runSpec, type RunSpec } from './sweep';
 
+const packer = new RunPacker();
 let model = -1;
 let loaded: { c: Compiled; spec: RunSpec } | undefined;
 let loadError: string | undefined;
@@ -50,8 +52,8 @@ function batch(m: Extract<WorkerRequest, { type: 'batch' }>): void {
       return;
     }
   }
-  const packed = packRuns(runs);
-  reply({ type: 'done', batch: m.batch, runs: packed.runs, data: packed.data }, [packed.data.buffer as ArrayBuffer]);
+  const packed = packer.pack(runs);
+  reply({ type: 'done', batch: m.batch, runs: packed.batch }, packed.transfer);
 }
 
 parentPort?.postMessage({ type: 'started' } satisfies WorkerReply);

@@ -5,10 +5,9 @@
 // are paid once per pool and model, not per call. Jobs go out in batches, each worker holding
 // up to two so it never waits for the main thread; batch sizes shrink as the jobs run out
 // (a share of what is left, divided by the workers), so the workers finish together. Results
-// come back per batch with the sample arrays packed into one Float64Array whose buffer is
-// transferred, not cloned (WireRun); the runs keep their samples as views on that buffer
-// (PooledRun) until a consumer asks for number arrays (plainRun). runPool is the one-call form:
-// a pool for one set of jobs, closed afterwards, with number arrays.
+// come back per batch in transferred buffers (pool-wire.ts); the runs keep their samples as
+// views on them (PooledRun) until a consumer asks for number arrays (plainRun). runPool is the
+// one-call form: a pool for one set of jobs, closed afterwards, with number arrays.
 //
 // The worker script is dist/pool-worker.js (bundled from pool-worker.ts by scripts/build.mjs)
 // unless a path is given.
@@ -19,6 +18,9 @@ import type { Compiled } from '../model/compile';
 import type { RunResult } from '../protocol';
 import { failedRun, runOnce, type Cancellation, type RunOptions } from './run';
 import type { RunSpec } from './sweep';
+import { plainRun, unpackRuns, type PooledRun, type WireBatch } from './pool-wire';
+
+export { plainRun, type PooledRun } from './pool-wire';
 
 /** One run: a label and the start values / params (SI, by qualified name) that differ from the file's. */
 export interface PoolJob {
@@ -85,87 +87,8 @@ export type WorkerRequest =
 
 export type WorkerReply =
   | { type: 'started' }
-  | { type: 'done'; batch: number; runs: WireRun[]; data: Float64Array }
+  | { type: 'done'; batch: number; runs: WireBatch }
   | { type: 'failed'; batch?: number; model?: number; message: string };
-
-/**
- * A RunResult as it crosses the thread boundary: the sample arrays (t and every signal) travel
- * packed one after another in a Float64Array whose buffer is transferred, not cloned; here only
- * their lengths remain (and the signal names, in their order). Every other field is the run's own.
- */
-export type WireRun = Omit<RunResult, 't' | 'signals'> & { t: number; signals: Array<[string, number]> };
-
-/** Packs runs for posting: the returned buffer goes in the transfer list. */
-export function packRuns(runs: RunResult[]): { runs: WireRun[]; data: Float64Array } {
-  let total = 0;
-  for (const r of runs) {
-    total += r.t.length;
-    for (const k in r.signals) total += r.signals[k].length;
-  }
-  const data = new Float64Array(total);
-  const wire: WireRun[] = [];
-  let o = 0;
-  for (const r of runs) {
-    data.set(r.t, o);
-    o += r.t.length;
-    const sigs: Array<[string, number]> = [];
-    for (const k in r.signals) {
-      const col = r.signals[k];
-      data.set(col, o);
-      o += col.length;
-      sigs.push([k, col.length]);
-    }
-    // the same keys in the same order as the run, so the unpacked run matches it field by field
-    wire.push({ ...r, t: r.t.length, signals: sigs });
-  }
-  return { runs: wire, data };
-}
-
-/**
- * A run as the pool returns it: a RunResult whose samples are Float64Array views on the buffer
- * its batch came back in (no copy, and nothing for the garbage collector to move while a sweep's
- * runs are held). plainRun turns it into a RunResult with number arrays for consumers that need
- * them (JSON, the report); element by element the values are the same.
- */
-export type PooledRun = Omit<RunResult, 't' | 'signals'> & { t: Float64Array; signals: Record<string, Float64Array> };
-
-/** The runs of a batch as posted by a worker, their samples as views on `data`. */
-export function unpackRuns(runs: WireRun[], data: Float64Array): PooledRun[] {
-  const out: PooledRun[] = [];
-  const buf = data.buffer, base = data.byteOffset;
-  let o = 0;
-  const view = (n: number, what: string, label: string): Float64Array => {
-    if (!(Number.isInteger(n) && n >= 0 && o + n <= data.length)) throw new Error(`run pool: the packed samples end before ${what} of '${label}'`);
-    const v = new Float64Array(buf, base + o * 8, n);
-    o += n;
-    return v;
-  };
-  for (const w of runs) {
-    const sigs = w.signals;
-    const r = w as unknown as PooledRun;
-    r.t = view(w.t, 't', w.label);
-    const signals: Record<string, Float64Array> = {};
-    for (const [name, n] of sigs) signals[name] = view(n, name, w.label);
-    r.signals = signals;
-    out.push(r);
-  }
-  if (o !== data.length) throw new Error(`run pool: ${data.length - o} packed samples are left over after ${runs.length} runs`);
-  return out;
-}
-
-function plainArray(v: Float64Array): number[] {
-  const n = v.length;
-  const a = new Array<number>(n);
-  for (let i = 0; i < n; i++) a[i] = v[i];
-  return a;
-}
-
-/** A pooled run with number arrays, as in-process runs give it (the same keys, in the same order). */
-export function plainRun(r: PooledRun): RunResult {
-  const signals: Record<string, number[]> = {};
-  for (const k in r.signals) signals[k] = plainArray(r.signals[k]);
-  return { ...r, t: plainArray(r.t), signals };
-}
 
 function defaultWorkerPath(): string {
   return join(typeof __dirname !== 'undefined' ? __dirname : '.', 'pool-worker.js');
@@ -199,7 +122,7 @@ interface Call {
   model: number;
   batches: Map<number, Batch>;
   fail(message: string): void;
-  done(b: number, runs: WireRun[], data: Float64Array): void;
+  done(b: number, runs: WireBatch): void;
 }
 
 /** Job ranges [first, end) for messages, counting from 1: "job 3", "jobs 1–32, 65–80". */
@@ -257,7 +180,7 @@ export function createRunPool(o: { threads: number; workerPath?: string }): RunP
       if (m.type === 'started') return void (s.started = true);
       const call = current;
       if (!call) return;
-      if (m.type === 'done') call.done(m.batch, m.runs, m.data);
+      if (m.type === 'done') call.done(m.batch, m.runs);
       else if (m.batch !== undefined ? call.batches.has(m.batch) : m.model === call.model) {
         // a failure in a batch of this call, or the load of its model failed (stale ones are dropped)
         call.fail(`run pool: ${m.message} (in ${where(s)})`);
@@ -345,13 +268,13 @@ export function createRunPool(o: { threads: number; workerPath?: string }): RunP
         model,
         batches: new Map(),
         fail: (message) => end(new Error(message)),
-        done: (b, runs, data) => {
+        done: (b, runs) => {
           const batch = call.batches.get(b);
           if (!batch || ended) return; // a batch of an earlier call that ended
           call.batches.delete(b);
           let got: PooledRun[];
           try {
-            got = unpackRuns(runs, data);
+            got = unpackRuns(runs);
           } catch (e) {
             return end(new Error(`${(e as Error).message} (${jobsText([[batch.first, batch.first + batch.count]])} from ${where(batch.slot)})`));
           }

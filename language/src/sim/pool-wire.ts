@@ -1,0 +1,307 @@
+// How a batch of runs crosses from a worker of the run pool to the main thread.
+//
+// Structured cloning a RunResult costs more on the receiving side than the run's share of the
+// work there should: every object is rebuilt key by key from its serialized key strings, every
+// number array element by element. A batch is therefore sent as
+//  - the sample arrays (t and every signal of every run) one after another in a Float64Array,
+//    followed by every other number of the runs; its buffer is transferred, not copied;
+//  - the structure as op codes in an Int32Array (transferred too): what each value is, with the
+//    key list ("shape") of each object and each string sent once per batch;
+//  - values the codec does not take apart (none in a RunResult: anything not a plain object,
+//    array or primitive, and anything nested deeper than MAX_DEPTH), structured-cloned as they are.
+// The receiver rebuilds the runs with their samples as Float64Array views on the transferred
+// buffer (PooledRun); plainRun gives a RunResult with number arrays. Every value comes back as it
+// was: numbers bit for bit (NaN, -0, infinities), strings, booleans, null, undefined, key order.
+// Shared references are not kept (a value reached twice arrives as two copies), as in JSON.
+
+import type { RunResult } from '../protocol';
+
+/**
+ * A run as the pool returns it: a RunResult whose samples are Float64Array views on the buffer
+ * its batch came back in (no copy, and nothing for the garbage collector to move while a sweep's
+ * runs are held). plainRun turns it into a RunResult with number arrays for consumers that need
+ * them (JSON, the report); element by element the values are the same.
+ */
+export type PooledRun = Omit<RunResult, 't' | 'signals'> & { t: Float64Array; signals: Record<string, Float64Array> };
+
+export interface WireBatch {
+  runs: number;
+  /** Count of sample values at the start of `data`; the other numbers follow them. */
+  samples: number;
+  data: Float64Array;
+  ops: Int32Array;
+  /** Key lists of the batch's objects, each once. */
+  shapes: string[][];
+  /** The batch's strings, each once. */
+  strs: string[];
+  /** Values sent as they are. */
+  others: unknown[];
+}
+
+// op codes; Str, Arr, Obj, Samples and Other are followed by one operand
+const NUM = 0, STR = 1, TRUE = 2, FALSE = 3, NULL = 4, UNDEF = 5, ARR = 6, OBJ = 7, SAMPLES = 8, OTHER = 9;
+/** Nesting below this is sent as it is (a RunResult nests four deep). */
+const MAX_DEPTH = 32;
+
+/** Copies a number array into a Float64Array: for arrays built with holes (new Array(n)) twice as fast as set(). */
+function copyInto(c: ArrayLike<number>, d: Float64Array, o: number): void {
+  const n = c.length;
+  let i = 0;
+  for (; i + 3 < n; i += 4) {
+    d[o + i] = c[i];
+    d[o + i + 1] = c[i + 1];
+    d[o + i + 2] = c[i + 2];
+    d[o + i + 3] = c[i + 3];
+  }
+  for (; i < n; i++) d[o + i] = c[i];
+}
+
+const isPlainObject = (v: object): v is Record<string, unknown> => Object.getPrototypeOf(v) === Object.prototype;
+
+interface ShapeNode {
+  next: Map<string, ShapeNode>;
+  id: number;
+}
+
+/** Packs runs into one batch; its scratch buffers are kept for the next batch. */
+export class RunPacker {
+  private ops = new Int32Array(4096);
+  private nOps = 0;
+  private nums = new Float64Array(1024);
+  private nNums = 0;
+  private cols: ArrayLike<number>[] = [];
+  private nSamples = 0;
+  private shapes: string[][] = [];
+  private shapeRoot: ShapeNode = { next: new Map(), id: -1 };
+  private strs: string[] = [];
+  private strIds = new Map<string, number>();
+  private others: unknown[] = [];
+
+  /** The batch of the runs, and the buffers to transfer with it. */
+  pack(runs: RunResult[]): { batch: WireBatch; transfer: ArrayBuffer[] } {
+    this.nOps = this.nNums = this.nSamples = 0;
+    this.cols = [];
+    this.shapes = [];
+    this.shapeRoot = { next: new Map(), id: -1 };
+    this.strs = [];
+    this.strIds.clear();
+    this.others = [];
+    for (const r of runs) this.run(r);
+    const data = new Float64Array(this.nSamples + this.nNums);
+    let o = 0;
+    for (const c of this.cols) {
+      if (c instanceof Float64Array) data.set(c, o);
+      else copyInto(c, data, o);
+      o += c.length;
+    }
+    data.set(this.nums.subarray(0, this.nNums), o);
+    const ops = this.ops.slice(0, this.nOps);
+    const batch: WireBatch = { runs: runs.length, samples: this.nSamples, data, ops, shapes: this.shapes, strs: this.strs, others: this.others };
+    return { batch, transfer: [data.buffer as ArrayBuffer, ops.buffer as ArrayBuffer] };
+  }
+
+  private op(x: number): void {
+    if (this.nOps === this.ops.length) {
+      const g = new Int32Array(this.ops.length * 2);
+      g.set(this.ops);
+      this.ops = g;
+    }
+    this.ops[this.nOps++] = x;
+  }
+
+  private num(x: number): void {
+    if (this.nNums === this.nums.length) {
+      const g = new Float64Array(this.nums.length * 2);
+      g.set(this.nums);
+      this.nums = g;
+    }
+    this.nums[this.nNums++] = x;
+  }
+
+  /** The id of a key list: a walk down a tree of the batch's key lists, one key at a time. */
+  private shape(keys: string[]): number {
+    let node = this.shapeRoot;
+    for (const k of keys) {
+      let next = node.next.get(k);
+      if (!next) node.next.set(k, (next = { next: new Map(), id: -1 }));
+      node = next;
+    }
+    if (node.id < 0) {
+      node.id = this.shapes.length;
+      this.shapes.push(keys);
+    }
+    return node.id;
+  }
+
+  private str(s: string): number {
+    let id = this.strIds.get(s);
+    if (id === undefined) {
+      id = this.strs.length;
+      this.strs.push(s);
+      this.strIds.set(s, id);
+    }
+    return id;
+  }
+
+  private samples(col: ArrayLike<number>): void {
+    this.op(SAMPLES);
+    this.op(col.length);
+    this.cols.push(col);
+    this.nSamples += col.length;
+  }
+
+  /** A run: as any object, but t and the signals' arrays go to the samples. */
+  private run(r: RunResult): void {
+    const rec = r as unknown as Record<string, unknown>;
+    const keys = Object.keys(rec);
+    this.op(OBJ);
+    this.op(this.shape(keys));
+    for (const k of keys) {
+      const v = rec[k];
+      if (k === 't' && Array.isArray(v)) this.samples(v);
+      else if (k === 'signals' && v !== null && typeof v === 'object' && isPlainObject(v)) {
+        const names = Object.keys(v);
+        this.op(OBJ);
+        this.op(this.shape(names));
+        for (const n of names) {
+          const col = v[n];
+          if (Array.isArray(col)) this.samples(col);
+          else this.value(col, 2);
+        }
+      } else this.value(v, 1);
+    }
+  }
+
+  private value(v: unknown, depth: number): void {
+    switch (typeof v) {
+      case 'number':
+        this.op(NUM);
+        this.num(v);
+        return;
+      case 'string':
+        this.op(STR);
+        this.op(this.str(v));
+        return;
+      case 'boolean':
+        this.op(v ? TRUE : FALSE);
+        return;
+      case 'undefined':
+        this.op(UNDEF);
+        return;
+      case 'object':
+        if (v === null) {
+          this.op(NULL);
+          return;
+        }
+        if (depth < MAX_DEPTH) {
+          if (Array.isArray(v)) {
+            const n = v.length;
+            this.op(ARR);
+            this.op(n);
+            for (let i = 0; i < n; i++) this.value(v[i], depth + 1);
+            return;
+          }
+          if (isPlainObject(v)) {
+            const keys = Object.keys(v);
+            this.op(OBJ);
+            this.op(this.shape(keys));
+            for (const k of keys) this.value(v[k], depth + 1);
+            return;
+          }
+        }
+    }
+    this.op(OTHER);
+    this.op(this.others.length);
+    this.others.push(v);
+  }
+}
+
+/** Sets a key as an own property, '__proto__' included. */
+function put(o: Record<string, unknown>, k: string, v: unknown): void {
+  if (k === '__proto__') Object.defineProperty(o, k, { value: v, enumerable: true, writable: true, configurable: true });
+  else o[k] = v;
+}
+
+/** The runs of a batch, their samples as views on its data buffer. */
+export function unpackRuns(b: WireBatch): PooledRun[] {
+  const { ops, data, shapes, strs, others } = b;
+  const buf = data.buffer, base = data.byteOffset;
+  if (!(b.samples >= 0 && b.samples <= data.length)) throw new Error(`run pool: a batch claims ${b.samples} samples in ${data.length} values`);
+  const hasProto = shapes.map((s) => s.includes('__proto__'));
+  let pc = 0, sOff = 0, nOff = b.samples;
+  const operand = (): number => {
+    if (pc >= ops.length) throw new Error('run pool: a batch ends in the middle of a value');
+    return ops[pc++];
+  };
+  const read = (): unknown => {
+    const op = operand();
+    switch (op) {
+      case NUM:
+        if (nOff >= data.length) throw new Error('run pool: a batch has fewer numbers than its values');
+        return data[nOff++];
+      case STR: {
+        const i = operand();
+        if (!(i >= 0 && i < strs.length)) throw new Error(`run pool: a batch refers to string ${i} of ${strs.length}`);
+        return strs[i];
+      }
+      case TRUE:
+        return true;
+      case FALSE:
+        return false;
+      case NULL:
+        return null;
+      case UNDEF:
+        return undefined;
+      case ARR: {
+        const n = operand();
+        if (!(n >= 0 && n <= ops.length - pc)) throw new Error(`run pool: a batch has an array of ${n} values with ${ops.length - pc} op codes left`);
+        const a: unknown[] = [];
+        for (let i = 0; i < n; i++) a.push(read());
+        return a;
+      }
+      case OBJ: {
+        const i = operand();
+        const keys = shapes[i];
+        if (!keys) throw new Error(`run pool: a batch refers to key list ${i} of ${shapes.length}`);
+        const o: Record<string, unknown> = {};
+        if (hasProto[i]) for (const k of keys) put(o, k, read());
+        else for (const k of keys) o[k] = read();
+        return o;
+      }
+      case SAMPLES: {
+        const n = operand();
+        if (!(n >= 0 && sOff + n <= b.samples)) throw new Error(`run pool: a batch's samples end before an array of ${n}`);
+        const v = new Float64Array(buf, base + sOff * 8, n);
+        sOff += n;
+        return v;
+      }
+      case OTHER: {
+        const i = operand();
+        if (!(i >= 0 && i < others.length)) throw new Error(`run pool: a batch refers to value ${i} of ${others.length}`);
+        return others[i];
+      }
+      default:
+        throw new Error(`run pool: a batch has an unknown op code ${op}`);
+    }
+  };
+  const out: PooledRun[] = [];
+  for (let r = 0; r < b.runs; r++) out.push(read() as PooledRun);
+  if (pc !== ops.length || sOff !== b.samples || nOff !== data.length) {
+    throw new Error(`run pool: a batch of ${b.runs} runs has ${ops.length - pc} op codes, ${b.samples - sOff} samples and ${data.length - nOff} numbers left over`);
+  }
+  return out;
+}
+
+function plainArray(v: ArrayLike<number>): number[] {
+  const n = v.length;
+  const a = new Array<number>(n);
+  for (let i = 0; i < n; i++) a[i] = v[i];
+  return a;
+}
+
+/** A pooled run with number arrays, as in-process runs give it (the same keys, in the same order). */
+export function plainRun(r: PooledRun): RunResult {
+  const signals: Record<string, number[]> = {};
+  for (const k of Object.keys(r.signals)) put(signals, k, plainArray(r.signals[k]));
+  return { ...r, t: plainArray(r.t), signals };
+}
