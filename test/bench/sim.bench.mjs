@@ -343,15 +343,17 @@ const ratioOnly = process.argv.includes('--ratio');
 // one. Not timed: starting the workers, loading the worker script, compiling the loop in each
 // worker (once per pool) and two warm-up calls of the 400 jobs. Timed per call of the 400
 // jobs: batching and sending them, the runs, packing each batch's results in the worker,
-// posting them with the sample buffer transferred, and receiving them in job order as pooled
-// runs (every field of the RunResult; samples as Float64Array views on the received buffers).
+// posting them with their buffers transferred, and receiving them in job order as pooled runs
+// (every field of the RunResult; samples as Float64Array views on the received buffers).
 // Medians of ROUNDS rounds, the 1- and 2-thread calls interleaved. Also shown: the same calls
 // with every run turned into number arrays on the main thread (plainRun, as the sweep command
-// does for its report) and, cold, one runPool call on 2 new workers that counts their start-up,
-// the compile and the warm-up of the code (what the sweep command pays once per sweep).
+// does for its report); cold, one runPool call on 2 new workers that counts their start-up,
+// the compile and the warm-up of the code (what the sweep command pays once per sweep); and,
+// in the same rounds, the speed-up of a plain compute loop on 1 and 2 threads: what the machine
+// gives at the time (below 2 when other work shares the CPUs).
 const jobs = Array.from({ length: 400 }, (_, i) => ({ label: `tilt ${i}`, starts: [['Boom.tilt', 0.05 + (0.9 * i) / 399]] }));
 const threadLoad = loadavg().map((v) => v.toFixed(2)).join(' ');
-const th1 = [], th2 = [], tp1 = [], tp2 = [];
+const th1 = [], th2 = [], tp1 = [], tp2 = [], loop1 = [], loop2 = [];
 let cold = NaN;
 if (!ratioOnly) {
   const pools = [L.createRunPool({ threads: 1, workerPath }), L.createRunPool({ threads: 2, workerPath })];
@@ -363,14 +365,26 @@ if (!ratioOnly) {
     if (out.length !== jobs.length || out.some((r) => r.error || r.t.length !== 1000)) throw new Error('the pool lost or failed runs');
     return jobs.length / s;
   };
+  const { Worker } = await import('node:worker_threads');
+  const loopSrc = `const { parentPort } = require('node:worker_threads');
+parentPort.on('message', (n) => { let s = 0; for (let i = 0; i < n; i++) s += Math.sin(i * 1e-3) * Math.cos(i * 2e-3); parentPort.postMessage(s); });`;
+  const loopers = [new Worker(loopSrc, { eval: true }), new Worker(loopSrc, { eval: true })];
+  const loopRate = async (k, n) => {
+    const t0 = performance.now();
+    await Promise.all(loopers.slice(0, k).map((w) => new Promise((r) => { w.once('message', r); w.postMessage(n); })));
+    return (k * n) / (performance.now() - t0);
+  };
+  await loopRate(2, 1e6);
   for (const pool of pools) for (let k = 0; k < 2; k++) await call(pool, false);
   for (let r = 0; r < ROUNDS; r++) {
     th1.push(await call(pools[0], false));
     th2.push(await call(pools[1], false));
     tp1.push(await call(pools[0], true));
     tp2.push(await call(pools[1], true));
+    loop1.push(await loopRate(1, 6e6));
+    loop2.push(await loopRate(2, 6e6));
   }
-  await Promise.all(pools.map((p) => p.close()));
+  await Promise.all([...pools.map((p) => p.close()), ...loopers.map((w) => w.terminate())]);
   const t0 = performance.now();
   const out = await L.runPool({ text, jobs, threads: 2, workerPath, run: opts });
   if (out.length !== jobs.length) throw new Error('the pool lost runs');
@@ -378,6 +392,7 @@ if (!ratioOnly) {
 }
 const r1 = ratioOnly ? NaN : med(th1), r2 = ratioOnly ? NaN : med(th2);
 const p1 = ratioOnly ? NaN : med(tp1), p2 = ratioOnly ? NaN : med(tp2);
+const loopUp = ratioOnly ? NaN : med(loop2) / med(loop1);
 
 // --- scipy RK45
 let usScipy = null;
@@ -414,6 +429,7 @@ const rows = [
   ['speed-up 2 vs 1 thread (target ≥ 1.9)', (r2 / r1).toFixed(2), ''],
   ['simulations/s on 1 / 2 worker threads, results as number arrays', `${p1.toFixed(0)} / ${p2.toFixed(0)}`, `speed-up ${(p2 / p1).toFixed(2)}`],
   ['simulations/s on 2 new worker threads, cold (start-up and compile timed)', cold.toFixed(0), 'one runPool call'],
+  ['speed-up 2 vs 1 thread of a plain compute loop (the machine now)', loopUp.toFixed(2), ''],
   ['scipy solve_ivp RK45 (µs/simulation)', usScipy === null ? 'n/a' : usScipy.toFixed(0), usScipy === null ? 'python3 with scipy not found' : ''],
   ['scipy / pipeline (target ≥ 60)', usScipy === null ? 'n/a' : (usScipy / usPipeline).toFixed(1), ''],
 ];
