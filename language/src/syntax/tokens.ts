@@ -201,7 +201,7 @@ const loopLexer = new Lexer(allTokens, {
   skipValidations: true,
 });
 
-export type LexResult = ReturnType<Lexer['tokenize']> & {
+export type LexResult = Pick<ReturnType<Lexer['tokenize']>, 'tokens' | 'errors' | 'groups'> & {
   /** Unit tokens without their ']' and strings without their closing quote, in order. */
   unclosed: IToken[];
   /** Numbers whose exponent has no digits (`1e+`), in order. */
@@ -216,7 +216,12 @@ export type LexResult = ReturnType<Lexer['tokenize']> & {
  */
 export function lexLoop(text: string): LexResult {
   const r = loopLexer.tokenize(text);
-  const toks = r.tokens;
+  const facts = scanTokens(r.tokens);
+  return { tokens: r.tokens, errors: r.errors, groups: r.groups, unclosed: facts.unclosed, badNumbers: facts.badNumbers, maxDepth: facts.maxDepth };
+}
+
+/** The pass of lexLoop over the tokens (a function of its own, so that its loop is optimised on its own). */
+function scanTokens(toks: IToken[]): { unclosed: IToken[]; badNumbers: IToken[]; maxDepth: number } {
   const unclosed: IToken[] = [];
   const badNumbers: IToken[] = [];
   let depth = 0;
@@ -242,7 +247,7 @@ export function lexLoop(text: string): LexResult {
       unclosed.push(t);
     }
   }
-  return Object.assign(r, { unclosed, badNumbers, maxDepth });
+  return { unclosed, badNumbers, maxDepth };
 }
 
 export function tokenMatches(tok: IToken, type: TokenType): boolean {
