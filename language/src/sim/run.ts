@@ -94,9 +94,9 @@ class RunDriver {
   readonly iaeTs = new Float64Array(5);
   readonly iaeYs = new Float64Array(5);
   readonly iaeCuts = new Float64Array(6);
-  // grid: times for (points, tEnd), values points × nTr
+  // grid: times for (points, tEnd); the values are in the merged samples, at gridAt[i]
   gridT = new Float64Array(0);
-  grid = new Float64Array(0);
+  gridAt = new Int32Array(0);
   private gridEnd = NaN;
   // Samples for the metrics, merged in time order as the run goes: every grid point and every
   // accepted step's end (a step end on a grid time is not repeated). `my` holds one row of
@@ -192,14 +192,14 @@ class RunDriver {
     return this.integrator;
   }
 
-  /** Grid times and value buffer for `points` points on [0, tEnd]. */
+  /** Grid times and sample index buffer for `points` points on [0, tEnd]. */
   gridFor(points: number, tEnd: number): void {
     if (this.gridT.length !== points || this.gridEnd !== tEnd) {
       this.gridT = new Float64Array(points);
       for (let i = 0; i < points; i++) this.gridT[i] = i === points - 1 ? tEnd : (tEnd * i) / (points - 1);
       this.gridEnd = tEnd;
     }
-    if (this.grid.length !== points * this.nTr) this.grid = new Float64Array(points * this.nTr);
+    if (this.gridAt.length !== points) this.gridAt = new Int32Array(points);
   }
 
   /** Starts a run's merged samples (room for the grid and about as many step ends). */
@@ -238,10 +238,9 @@ class RunDriver {
     this.lastWasGrid = false;
   }
 
-  /** Grid point i: into the grid and the merged samples. */
+  /** Grid point i: into the merged samples, its index noted. */
   writeGrid(i: number, tr: Float64Array): void {
-    const G = this.grid;
-    for (let j = 0, o = i * this.nTr; j < this.nTr; j++) G[o + j] = tr[j];
+    this.gridAt[i] = this.nMerged;
     this.appendSample(this.gridT[i], tr);
     this.lastWasGrid = true;
   }
@@ -783,7 +782,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   for (let k = 0; k < nLim; k++) if (!Number.isNaN(atLimitSince[k]) && t > atLimitSince[k]) atLimit[k].push([atLimitSince[k], t]);
 
   // grid points not reached (failed runs) stay NaN
-  for (let i = nextGrid; i < points; i++) for (let j = 0; j < nTr; j++) d.grid[i * nTr + j] = NaN;
+  for (let i = nextGrid; i < points; i++) d.gridAt[i] = -1;
 
   for (let j = 0; j < nTr; j++) if (sameAs[j] !== j) iae[j] = iae[sameAs[j]];
   const s = integrator.stats;
@@ -872,7 +871,7 @@ function assemble(
   const c = d.c;
   const traced = c.traced;
   const nTr = traced.length;
-  const gridT = d.gridT, grid = d.grid;
+  const gridT = d.gridT, gridAt = d.gridAt;
   const points = gridT.length;
   const signals: Record<string, number[]> = {};
   const metrics: Record<string, SignalMetrics> = {};
@@ -886,8 +885,10 @@ function assemble(
     if (!tr.shown) continue;
     const scale = tr.scale, offset = tr.offset;
     const col: number[] = new Array(points);
-    if (offset === 0 && scale === 1) for (let i = 0, o = j; i < points; i++, o += nTr) col[i] = grid[o];
-    else for (let i = 0, o = j; i < points; i++, o += nTr) col[i] = (grid[o] - offset) / scale;
+    // grid point i is merged sample gridAt[i] (-1: not reached, a failed run)
+    const yj = my[j];
+    if (offset === 0 && scale === 1) for (let i = 0; i < points; i++) col[i] = gridAt[i] < 0 ? NaN : yj[gridAt[i]];
+    else for (let i = 0; i < points; i++) col[i] = gridAt[i] < 0 ? NaN : (yj[gridAt[i]] - offset) / scale;
     signals[tr.name] = col;
     // metrics in the signal's display unit, read straight from the merged SI samples
     const m = displayMetricsOf(mt, my[j], nMerged, tr, d.iae[j]);
