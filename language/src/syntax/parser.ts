@@ -119,7 +119,25 @@ interface Operand {
 
 const NONE: never[] = [];
 
-const newFrame = (): Frame => ({ subs: [] });
+/** Frames start with this shared empty list; `add` replaces it (it is never written). */
+const NO_SUBS: unknown[] = Object.freeze([]) as unknown as unknown[];
+const newFrame = (): Frame => ({ subs: NO_SUBS });
+
+/**
+ * Appends a subrule's value to a frame. Most frames get one value: a one-element array is
+ * allocated for it, where a push onto an empty array would allocate room for seventeen.
+ */
+function add(f: Frame, v: unknown): void {
+  if (f.subs.length === 0) f.subs = [v];
+  else f.subs.push(v);
+}
+
+/** `add` for the operators of an expression frame. */
+function addOp(f: Frame, op: IToken): void {
+  const ops = f.ops as IToken[];
+  if (ops.length === 0) f.ops = [op];
+  else ops.push(op);
+}
 
 const isPrefix = (tt: unknown): boolean => tt === T.Minus || tt === T.Plus || tt === Kw.not;
 const OPERATORS = new Set<unknown>([Kw.or, Kw.and, T.LessEq, T.GreaterEq, T.EqEq, T.NotEq, T.Less, T.Greater, T.Plus, T.Minus, T.Star, T.Slash, T.Caret]);
@@ -130,8 +148,8 @@ const isOperator = (tt: unknown): boolean => OPERATORS.has(tt);
  * The frame of an operand, with every field it may get in place from the start: operands are
  * the commonest rule, and frames of one shape keep the reads in its builder monomorphic.
  */
-const operandFrame = (): Frame => ({ subs: [], pfx: undefined, p0: 0, alt: 0, num: undefined, unit: undefined, head: undefined, lp: undefined, quote: undefined, parts: undefined });
-const expressionFrame = (): Frame => ({ subs: [], ops: [] });
+const operandFrame = (): Frame => ({ subs: NO_SUBS, pfx: undefined, p0: 0, alt: 0, num: undefined, unit: undefined, head: undefined, lp: undefined, quote: undefined, parts: undefined });
+const expressionFrame = (): Frame => ({ subs: NO_SUBS, ops: NO_SUBS });
 
 function validOffset(n: number | undefined): n is number {
   return typeof n === 'number' && Number.isFinite(n);
@@ -372,7 +390,7 @@ export class LoopParser extends EmbeddedActionsParser {
           body(f);
         } catch (e) {
           if (this.hasPending) {
-            f.subs.push(this.pending);
+            add(f, this.pending);
             this.hasPending = false;
           }
           this.pending = this.finish(f, n0, build);
@@ -409,7 +427,7 @@ export class LoopParser extends EmbeddedActionsParser {
     'file',
     (f) => {
       this.MANY(() => {
-        f.subs.push(this.SUBRULE(this.block));
+        add(f, this.SUBRULE(this.block));
       });
     },
     (f) => f.subs,
@@ -425,7 +443,7 @@ export class LoopParser extends EmbeddedActionsParser {
       });
       f.lc = this.CONSUME(T.LCurly);
       this.MANY(() => {
-        f.subs.push(this.SUBRULE(this.member));
+        add(f, this.SUBRULE(this.member));
       });
       f.rc = this.CONSUME(T.RCurly);
     },
@@ -455,7 +473,7 @@ export class LoopParser extends EmbeddedActionsParser {
   public member = this.R(
     'member',
     (f) => {
-      f.subs.push(
+      add(f, 
         this.OR({
           IGNORE_AMBIGUITIES: true,
           DEF: (this.memberAlts ??= [
@@ -498,7 +516,7 @@ export class LoopParser extends EmbeddedActionsParser {
       this.CONSUME(Kw.param);
       f.id = this.CONSUME(T.Ident);
       this.CONSUME(T.Equals);
-      f.subs.push(this.SUBRULE(this.expression));
+      add(f, this.SUBRULE(this.expression));
     },
     (f, span): Member => ({ kind: 'param', span, name: ident(f.id as IToken, span), value: expr(f.subs[0], span) }),
   );
@@ -509,7 +527,7 @@ export class LoopParser extends EmbeddedActionsParser {
       this.CONSUME(Kw.let);
       f.id = this.CONSUME(T.Ident);
       this.CONSUME(T.Equals);
-      f.subs.push(this.SUBRULE(this.expression));
+      add(f, this.SUBRULE(this.expression));
     },
     (f, span): Member => ({ kind: 'let', span, name: ident(f.id as IToken, span), value: expr(f.subs[0], span) }),
   );
@@ -524,7 +542,7 @@ export class LoopParser extends EmbeddedActionsParser {
       });
       this.OPTION2(() => {
         this.CONSUME(T.Equals);
-        f.subs.push(this.SUBRULE(this.expression));
+        add(f, this.SUBRULE(this.expression));
       });
     },
     (f, span): Member => ({ kind: 'state', span, name: ident(f.id as IToken, span), unit: unit(f.unit as IToken | undefined), init: f.subs.length ? expr(f.subs[0], span) : undefined }),
@@ -552,7 +570,7 @@ export class LoopParser extends EmbeddedActionsParser {
       });
       this.OPTION2(() => {
         this.CONSUME(T.Equals);
-        f.subs.push(this.SUBRULE(this.expression));
+        add(f, this.SUBRULE(this.expression));
       });
     },
     (f, span): Member => ({ kind: 'output', span, name: ident(f.id as IToken, span), unit: unit(f.unit as IToken | undefined), value: f.subs.length ? expr(f.subs[0], span) : undefined }),
@@ -562,7 +580,7 @@ export class LoopParser extends EmbeddedActionsParser {
     'linearMember',
     (f) => {
       f.kw = this.CONSUME(Kw.linear);
-      f.subs.push(this.SUBRULE(this.entries));
+      add(f, this.SUBRULE(this.entries));
     },
     (f, span): Member => ({ kind: 'linear', span, keywordSpan: tokSpan(f.kw as IToken, span), entries: entries(f.subs[0], span) }),
   );
@@ -574,7 +592,7 @@ export class LoopParser extends EmbeddedActionsParser {
       f.output = this.CONSUME(T.Ident);
       this.CONSUME(Kw.from);
       f.input = this.CONSUME2(T.Ident);
-      f.subs.push(this.SUBRULE(this.entries));
+      add(f, this.SUBRULE(this.entries));
     },
     (f, span): Member => ({ kind: 'pid', span, output: ident(f.output as IToken, span), input: ident(f.input as IToken, span), entries: entries(f.subs[0], span) }),
   );
@@ -585,9 +603,9 @@ export class LoopParser extends EmbeddedActionsParser {
       this.CONSUME(Kw.limit);
       f.id = this.CONSUME(T.Ident);
       this.CONSUME(Kw.within);
-      f.subs.push(this.SUBRULE(this.expression));
+      add(f, this.SUBRULE(this.expression));
       this.CONSUME(T.DotDot);
-      f.subs.push(this.SUBRULE2(this.expression));
+      add(f, this.SUBRULE2(this.expression));
     },
     (f, span): Member => ({ kind: 'limit', span, target: ident(f.id as IToken, span), lo: expr(f.subs[0], span), hi: expr(f.subs[1], span) }),
   );
@@ -598,7 +616,7 @@ export class LoopParser extends EmbeddedActionsParser {
       this.CONSUME(Kw.operating);
       this.CONSUME(Kw.point);
       f.id = this.CONSUME(T.Ident);
-      f.subs.push(this.SUBRULE(this.entries));
+      add(f, this.SUBRULE(this.entries));
     },
     (f, span): Member => ({ kind: 'operatingPoint', span, name: ident(f.id as IToken, span), entries: entries(f.subs[0], span) }),
   );
@@ -608,7 +626,7 @@ export class LoopParser extends EmbeddedActionsParser {
     (f) => {
       this.CONSUME(Kw.sample);
       this.CONSUME(Kw.every);
-      f.subs.push(this.SUBRULE(this.expression));
+      add(f, this.SUBRULE(this.expression));
       this.OPTION(() => {
         this.CONSUME(Kw.by);
         f.method = this.CONSUME(T.Ident);
@@ -626,7 +644,7 @@ export class LoopParser extends EmbeddedActionsParser {
       this.CONSUME(Kw.signal);
       f.id = this.CONSUME(T.Ident);
       this.CONSUME(T.Equals);
-      f.subs.push(this.SUBRULE(this.expression));
+      add(f, this.SUBRULE(this.expression));
     },
     (f, span): Member => ({ kind: 'signal', span, name: ident(f.id as IToken, span), value: expr(f.subs[0], span) }),
   );
@@ -640,7 +658,7 @@ export class LoopParser extends EmbeddedActionsParser {
       f.system = this.CONSUME2(T.Ident);
       this.CONSUME(T.LParen);
       this.MANY(() => {
-        f.subs.push(this.SUBRULE(this.entry));
+        add(f, this.SUBRULE(this.entry));
         this.OPTION(() => this.CONSUME(T.Comma));
       });
       this.CONSUME(T.RParen);
@@ -652,7 +670,7 @@ export class LoopParser extends EmbeddedActionsParser {
     'aroundMember',
     (f) => {
       this.CONSUME(Kw.around);
-      f.subs.push(this.SUBRULE(this.path));
+      add(f, this.SUBRULE(this.path));
     },
     (f, span): Member => ({ kind: 'around', span, target: path(f.subs[0], span) }),
   );
@@ -661,9 +679,9 @@ export class LoopParser extends EmbeddedActionsParser {
     'startMember',
     (f) => {
       this.CONSUME(Kw.start);
-      f.subs.push(this.SUBRULE(this.path));
+      add(f, this.SUBRULE(this.path));
       this.CONSUME(T.Equals);
-      f.subs.push(this.SUBRULE(this.expression));
+      add(f, this.SUBRULE(this.expression));
     },
     (f, span): Member => ({ kind: 'start', span, target: path(f.subs[0], span), value: expr(f.subs[1], span) }),
   );
@@ -672,9 +690,9 @@ export class LoopParser extends EmbeddedActionsParser {
     'simulateMember',
     (f) => {
       this.CONSUME(Kw.simulate);
-      f.subs.push(this.SUBRULE(this.expression));
+      add(f, this.SUBRULE(this.expression));
       this.OPTION(() => {
-        f.subs.push(this.SUBRULE(this.entries));
+        add(f, this.SUBRULE(this.entries));
       });
     },
     (f, span): Member => ({ kind: 'simulate', span, duration: expr(f.subs[0], span), options: f.subs.length > 1 ? entries(f.subs[1], span) : [] }),
@@ -697,24 +715,24 @@ export class LoopParser extends EmbeddedActionsParser {
         {
           ALT: () => {
             f.start = this.CONSUME(Kw.start);
-            f.subs.push(this.SUBRULE(this.path));
+            add(f, this.SUBRULE(this.path));
             this.CONSUME(Kw.over);
-            f.subs.push(this.SUBRULE(this.expression));
+            add(f, this.SUBRULE(this.expression));
             this.MANY(() => {
               this.CONSUME(T.Comma);
-              f.subs.push(this.SUBRULE2(this.expression));
+              add(f, this.SUBRULE2(this.expression));
             });
           },
         },
         {
           ALT: () => {
-            f.subs.push(this.SUBRULE2(this.path));
+            add(f, this.SUBRULE2(this.path));
             this.CONSUME2(Kw.over);
-            f.subs.push(this.SUBRULE3(this.expression));
+            add(f, this.SUBRULE3(this.expression));
             this.CONSUME(T.DotDot);
-            f.subs.push(this.SUBRULE4(this.expression));
+            add(f, this.SUBRULE4(this.expression));
             this.CONSUME(Kw.steps);
-            f.subs.push(this.SUBRULE5(this.expression));
+            add(f, this.SUBRULE5(this.expression));
           },
         },
       ]);
@@ -731,10 +749,10 @@ export class LoopParser extends EmbeddedActionsParser {
     'showMember',
     (f) => {
       this.CONSUME(Kw.show);
-      f.subs.push(this.SUBRULE(this.expression));
+      add(f, this.SUBRULE(this.expression));
       this.MANY(() => {
         this.CONSUME(T.Comma);
-        f.subs.push(this.SUBRULE2(this.expression));
+        add(f, this.SUBRULE2(this.expression));
       });
     },
     (f, span): Member => ({ kind: 'show', span, signals: f.subs.map((e) => expr(e, span)) }),
@@ -744,7 +762,7 @@ export class LoopParser extends EmbeddedActionsParser {
     'expectMember',
     (f) => {
       this.CONSUME(Kw.expect);
-      f.subs.push(this.SUBRULE(this.expression));
+      add(f, this.SUBRULE(this.expression));
     },
     (f, span): Member => ({ kind: 'expect', span, test: expr(f.subs[0], span) }),
   );
@@ -764,7 +782,7 @@ export class LoopParser extends EmbeddedActionsParser {
       f.id = this.CONSUME(T.Ident);
       this.CONSUME(T.Quote);
       this.CONSUME(T.Equals);
-      f.subs.push(this.SUBRULE(this.expression));
+      add(f, this.SUBRULE(this.expression));
     },
     (f, span): Member => ({ kind: 'derivEq', span, target: ident(f.id as IToken, span), value: expr(f.subs[0], span) }),
   );
@@ -776,7 +794,7 @@ export class LoopParser extends EmbeddedActionsParser {
       this.CONSUME(T.Slash);
       f.input = this.CONSUME2(T.Ident);
       this.CONSUME(T.Equals);
-      f.subs.push(this.SUBRULE(this.expression));
+      add(f, this.SUBRULE(this.expression));
     },
     (f, span): Member => ({ kind: 'transfer', span, output: ident(f.output as IToken, span), input: ident(f.input as IToken, span), value: expr(f.subs[0], span) }),
   );
@@ -784,9 +802,9 @@ export class LoopParser extends EmbeddedActionsParser {
   private arrowMember = this.R(
     'arrowMember',
     (f) => {
-      f.subs.push(this.SUBRULE(this.expression));
+      add(f, this.SUBRULE(this.expression));
       f.arrow = this.CONSUME(T.Arrow);
-      f.subs.push(this.SUBRULE(this.path));
+      add(f, this.SUBRULE(this.path));
     },
     (f, span): Member => {
       const target = path(f.subs[1], span);
@@ -805,10 +823,10 @@ export class LoopParser extends EmbeddedActionsParser {
   public path = this.R(
     'path',
     (f) => {
-      f.subs.push(this.CONSUME(T.Ident));
+      add(f, this.CONSUME(T.Ident));
       this.MANY(() => {
         this.CONSUME(T.Dot);
-        f.subs.push(this.CONSUME2(T.Ident));
+        add(f, this.CONSUME2(T.Ident));
       });
     },
     (f) => f.subs,
@@ -820,7 +838,7 @@ export class LoopParser extends EmbeddedActionsParser {
     (f) => {
       this.CONSUME(T.LCurly);
       this.MANY(() => {
-        f.subs.push(this.SUBRULE(this.entry));
+        add(f, this.SUBRULE(this.entry));
         this.OPTION(() => this.CONSUME(T.Comma));
       });
       this.CONSUME(T.RCurly);
@@ -833,7 +851,7 @@ export class LoopParser extends EmbeddedActionsParser {
     (f) => {
       f.id = this.CONSUME(T.Ident);
       this.CONSUME(T.Equals);
-      f.subs.push(this.SUBRULE(this.expression));
+      add(f, this.SUBRULE(this.expression));
     },
     (f, span): A.Entry => ({ name: ident(f.id as IToken, span), value: expr(f.subs[0], span), span }),
   );
@@ -845,7 +863,7 @@ export class LoopParser extends EmbeddedActionsParser {
   public expression = this.R(
     'expression',
     (f) => {
-      f.subs.push(this.SUBRULE(this.operand));
+      add(f, this.SUBRULE(this.operand));
       this.exTop = f;
       // most expressions are one operand: the repetition runs only when an operator continues it
       if (!this.RECORDING_PHASE && !(isOperator(this.LA(1).tokenType) && this.continues())) return;
@@ -853,7 +871,8 @@ export class LoopParser extends EmbeddedActionsParser {
         GATE: () => this.continues(),
         DEF: () => {
           const g = this.exTop;
-          (g.ops as IToken[]).push(
+          addOp(
+            g,
             this.OR((this.operatorAlts ??= [
               { ALT: () => this.CONSUME(Kw.or) },
               { ALT: () => this.CONSUME(Kw.and) },
@@ -870,7 +889,7 @@ export class LoopParser extends EmbeddedActionsParser {
               { ALT: () => this.CONSUME(T.Caret) },
             ])),
           );
-          g.subs.push(this.SUBRULE2(this.operand));
+          add(g, this.SUBRULE2(this.operand));
           this.exTop = g;
         },
       }));
@@ -919,7 +938,7 @@ export class LoopParser extends EmbeddedActionsParser {
                     SEP: T.Comma,
                     DEF: () => {
                       const h = this.opTop;
-                      h.subs.push(this.SUBRULE(this.expression));
+                      add(h, this.SUBRULE(this.expression));
                       this.opTop = h;
                     },
                   }));
@@ -936,7 +955,9 @@ export class LoopParser extends EmbeddedActionsParser {
                   this.MANY2(() => {
                     this.CONSUME(T.Dot);
                     const h = this.opTop;
-                    ((h.parts as IToken[] | undefined) ?? (h.parts = [])).push(this.CONSUME2(T.Ident));
+                    const id = this.CONSUME2(T.Ident);
+                    if (h.parts) (h.parts as IToken[]).push(id);
+                    else h.parts = [id];
                   }),
               },
             ]));
@@ -947,7 +968,7 @@ export class LoopParser extends EmbeddedActionsParser {
             const g = this.opTop;
             g.alt = 3;
             this.CONSUME2(T.LParen);
-            g.subs.push(this.SUBRULE2(this.expression));
+            add(g, this.SUBRULE2(this.expression));
             this.CONSUME2(T.RParen);
           },
         },
@@ -955,14 +976,14 @@ export class LoopParser extends EmbeddedActionsParser {
           ALT: () => {
             const g = this.opTop;
             g.alt = 4;
-            g.subs.push(this.SUBRULE(this.listExpr));
+            add(g, this.SUBRULE(this.listExpr));
           },
         },
         {
           ALT: () => {
             const g = this.opTop;
             g.alt = 4;
-            g.subs.push(this.SUBRULE(this.ifExpr));
+            add(g, this.SUBRULE(this.ifExpr));
           },
         },
       ]));
@@ -1031,7 +1052,7 @@ export class LoopParser extends EmbeddedActionsParser {
         SEP: T.Comma,
         DEF: () => {
           const g = this.liTop;
-          g.subs.push(this.SUBRULE(this.expression));
+          add(g, this.SUBRULE(this.expression));
           this.liTop = g;
         },
       }));
@@ -1048,11 +1069,11 @@ export class LoopParser extends EmbeddedActionsParser {
     'ifExpr',
     (f) => {
       this.CONSUME(Kw.if);
-      f.subs.push(this.SUBRULE(this.expression));
+      add(f, this.SUBRULE(this.expression));
       this.CONSUME(Kw.then);
-      f.subs.push(this.SUBRULE2(this.expression));
+      add(f, this.SUBRULE2(this.expression));
       this.CONSUME(Kw.else);
-      f.subs.push(this.SUBRULE3(this.expression));
+      add(f, this.SUBRULE3(this.expression));
     },
     (f, span): A.Expr => ({ kind: 'if', span, cond: expr(f.subs[0], span), then: expr(f.subs[1], span), else: expr(f.subs[2], span) }),
   );

@@ -27,6 +27,7 @@ function asciiWord(c: number, first: boolean): boolean {
  * Identifiers may use any Unicode letter (`θ`, `ω`). An all-ASCII name is scanned by character
  * code; a name with any other character goes to a sticky Unicode regex, which decides.
  */
+const identResult = [''] as unknown as RegExpExecArray;
 function matchIdent(text: string, offset: number): RegExpExecArray | null {
   const n = text.length;
   let i = offset;
@@ -34,9 +35,9 @@ function matchIdent(text: string, offset: number): RegExpExecArray | null {
     i++;
     while (i < n && asciiWord(text.charCodeAt(i), false)) i++;
     if (i >= n || text.charCodeAt(i) < 128) {
-      const m = [text.slice(offset, i)] as unknown as RegExpExecArray;
-      m.index = offset;
-      return m;
+      // the lexer reads the image out of the result at once and keeps nothing: one array serves
+      identResult[0] = text.slice(offset, i);
+      return identResult;
     }
   }
   identRe.lastIndex = offset;
