@@ -63,41 +63,51 @@ interface ShapeNode {
   id: number;
 }
 
-/** Packs runs into one batch; its scratch buffers are kept for the next batch. */
+/**
+ * Packs runs into batches. Each run is taken apart as it is added (its samples copied into the
+ * packer's scratch), so a worker holds no more than the run in hand; the scratch buffers are
+ * kept from batch to batch.
+ */
 export class RunPacker {
   private ops = new Int32Array(4096);
   private nOps = 0;
   private nums = new Float64Array(1024);
   private nNums = 0;
-  private cols: ArrayLike<number>[] = [];
+  private smp = new Float64Array(32768);
   private nSamples = 0;
+  private nRuns = 0;
   private shapes: string[][] = [];
   private shapeRoot: ShapeNode = { next: new Map(), id: -1 };
   private strs: string[] = [];
   private strIds = new Map<string, number>();
   private others: unknown[] = [];
 
-  /** The batch of the runs, and the buffers to transfer with it. */
-  pack(runs: RunResult[]): { batch: WireBatch; transfer: ArrayBuffer[] } {
-    this.nOps = this.nNums = this.nSamples = 0;
-    this.cols = [];
+  /** Adds a run to the batch being packed. */
+  add(r: RunResult): void {
+    this.run(r);
+    this.nRuns++;
+  }
+
+  /** The batch of the runs added since the last one, and the buffers to transfer with it. */
+  finish(): { batch: WireBatch; transfer: ArrayBuffer[] } {
+    const data = new Float64Array(this.nSamples + this.nNums);
+    data.set(this.smp.subarray(0, this.nSamples));
+    data.set(this.nums.subarray(0, this.nNums), this.nSamples);
+    const ops = this.ops.slice(0, this.nOps);
+    const batch: WireBatch = { runs: this.nRuns, samples: this.nSamples, data, ops, shapes: this.shapes, strs: this.strs, others: this.others };
+    this.nOps = this.nNums = this.nSamples = this.nRuns = 0;
     this.shapes = [];
     this.shapeRoot = { next: new Map(), id: -1 };
     this.strs = [];
     this.strIds.clear();
     this.others = [];
-    for (const r of runs) this.run(r);
-    const data = new Float64Array(this.nSamples + this.nNums);
-    let o = 0;
-    for (const c of this.cols) {
-      if (c instanceof Float64Array) data.set(c, o);
-      else copyInto(c, data, o);
-      o += c.length;
-    }
-    data.set(this.nums.subarray(0, this.nNums), o);
-    const ops = this.ops.slice(0, this.nOps);
-    const batch: WireBatch = { runs: runs.length, samples: this.nSamples, data, ops, shapes: this.shapes, strs: this.strs, others: this.others };
     return { batch, transfer: [data.buffer as ArrayBuffer, ops.buffer as ArrayBuffer] };
+  }
+
+  /** A batch of the runs (add each, then finish). */
+  pack(runs: RunResult[]): { batch: WireBatch; transfer: ArrayBuffer[] } {
+    for (const r of runs) this.add(r);
+    return this.finish();
   }
 
   private op(x: number): void {
@@ -144,10 +154,17 @@ export class RunPacker {
   }
 
   private samples(col: ArrayLike<number>): void {
+    const n = col.length;
     this.op(SAMPLES);
-    this.op(col.length);
-    this.cols.push(col);
-    this.nSamples += col.length;
+    this.op(n);
+    if (this.nSamples + n > this.smp.length) {
+      const g = new Float64Array(Math.max(2 * this.smp.length, this.nSamples + n));
+      g.set(this.smp.subarray(0, this.nSamples));
+      this.smp = g;
+    }
+    if (col instanceof Float64Array) this.smp.set(col, this.nSamples);
+    else copyInto(col, this.smp, this.nSamples);
+    this.nSamples += n;
   }
 
   /** A run: as any object, but t and the signals' arrays go to the samples. */
@@ -222,25 +239,44 @@ function put(o: Record<string, unknown>, k: string, v: unknown): void {
   else o[k] = v;
 }
 
-/** The runs of a batch, their samples as views on its data buffer. */
-export function unpackRuns(b: WireBatch): PooledRun[] {
-  const { ops, data, shapes, strs, others } = b;
-  const buf = data.buffer, base = data.byteOffset;
-  if (!(b.samples >= 0 && b.samples <= data.length)) throw new Error(`run pool: a batch claims ${b.samples} samples in ${data.length} values`);
-  const hasProto = shapes.map((s) => s.includes('__proto__'));
-  let pc = 0, sOff = 0, nOff = b.samples;
-  const operand = (): number => {
-    if (pc >= ops.length) throw new Error('run pool: a batch ends in the middle of a value');
-    return ops[pc++];
-  };
-  const read = (): unknown => {
-    const op = operand();
+/** Reads a batch's values back, in the order they were packed. */
+class Reader {
+  private pc = 0;
+  private sOff = 0;
+  private nOff: number;
+  private readonly hasProto: boolean[];
+
+  constructor(private readonly b: WireBatch) {
+    this.nOff = b.samples;
+    this.hasProto = b.shapes.map((s) => s.includes('__proto__'));
+  }
+
+  /** Every op code, sample and number read. */
+  get complete(): boolean {
+    return this.pc === this.b.ops.length && this.sOff === this.b.samples && this.nOff === this.b.data.length;
+  }
+
+  get leftOver(): string {
+    const b = this.b;
+    return `${b.ops.length - this.pc} op codes, ${b.samples - this.sOff} samples and ${b.data.length - this.nOff} numbers`;
+  }
+
+  private operand(): number {
+    const ops = this.b.ops;
+    if (this.pc >= ops.length) throw new Error('run pool: a batch ends in the middle of a value');
+    return ops[this.pc++];
+  }
+
+  read(): unknown {
+    const op = this.operand();
     switch (op) {
-      case NUM:
-        if (nOff >= data.length) throw new Error('run pool: a batch has fewer numbers than its values');
-        return data[nOff++];
+      case NUM: {
+        const data = this.b.data;
+        if (this.nOff >= data.length) throw new Error('run pool: a batch has fewer numbers than its values');
+        return data[this.nOff++];
+      }
       case STR: {
-        const i = operand();
+        const i = this.operand(), strs = this.b.strs;
         if (!(i >= 0 && i < strs.length)) throw new Error(`run pool: a batch refers to string ${i} of ${strs.length}`);
         return strs[i];
       }
@@ -253,42 +289,46 @@ export function unpackRuns(b: WireBatch): PooledRun[] {
       case UNDEF:
         return undefined;
       case ARR: {
-        const n = operand();
-        if (!(n >= 0 && n <= ops.length - pc)) throw new Error(`run pool: a batch has an array of ${n} values with ${ops.length - pc} op codes left`);
+        const n = this.operand(), left = this.b.ops.length - this.pc;
+        if (!(n >= 0 && n <= left)) throw new Error(`run pool: a batch has an array of ${n} values with ${left} op codes left`);
         const a: unknown[] = [];
-        for (let i = 0; i < n; i++) a.push(read());
+        for (let i = 0; i < n; i++) a.push(this.read());
         return a;
       }
       case OBJ: {
-        const i = operand();
-        const keys = shapes[i];
-        if (!keys) throw new Error(`run pool: a batch refers to key list ${i} of ${shapes.length}`);
+        const i = this.operand();
+        const keys = this.b.shapes[i];
+        if (!keys) throw new Error(`run pool: a batch refers to key list ${i} of ${this.b.shapes.length}`);
         const o: Record<string, unknown> = {};
-        if (hasProto[i]) for (const k of keys) put(o, k, read());
-        else for (const k of keys) o[k] = read();
+        if (this.hasProto[i]) for (const k of keys) put(o, k, this.read());
+        else for (const k of keys) o[k] = this.read();
         return o;
       }
       case SAMPLES: {
-        const n = operand();
-        if (!(n >= 0 && sOff + n <= b.samples)) throw new Error(`run pool: a batch's samples end before an array of ${n}`);
-        const v = new Float64Array(buf, base + sOff * 8, n);
-        sOff += n;
+        const n = this.operand(), data = this.b.data;
+        if (!(n >= 0 && this.sOff + n <= this.b.samples)) throw new Error(`run pool: a batch's samples end before an array of ${n}`);
+        const v = new Float64Array(data.buffer, data.byteOffset + this.sOff * 8, n);
+        this.sOff += n;
         return v;
       }
       case OTHER: {
-        const i = operand();
+        const i = this.operand(), others = this.b.others;
         if (!(i >= 0 && i < others.length)) throw new Error(`run pool: a batch refers to value ${i} of ${others.length}`);
         return others[i];
       }
       default:
         throw new Error(`run pool: a batch has an unknown op code ${op}`);
     }
-  };
-  const out: PooledRun[] = [];
-  for (let r = 0; r < b.runs; r++) out.push(read() as PooledRun);
-  if (pc !== ops.length || sOff !== b.samples || nOff !== data.length) {
-    throw new Error(`run pool: a batch of ${b.runs} runs has ${ops.length - pc} op codes, ${b.samples - sOff} samples and ${data.length - nOff} numbers left over`);
   }
+}
+
+/** The runs of a batch, their samples as views on its data buffer. */
+export function unpackRuns(b: WireBatch): PooledRun[] {
+  if (!(b.samples >= 0 && b.samples <= b.data.length)) throw new Error(`run pool: a batch claims ${b.samples} samples in ${b.data.length} values`);
+  const r = new Reader(b);
+  const out: PooledRun[] = [];
+  for (let i = 0; i < b.runs; i++) out.push(r.read() as PooledRun);
+  if (!r.complete) throw new Error(`run pool: a batch of ${b.runs} runs has ${r.leftOver} left over`);
   return out;
 }
 

@@ -5,7 +5,6 @@
 import { parentPort } from 'node:worker_threads';
 import { analyze } from '../analysis';
 import type { Compiled } from '../model/compile';
-import type { RunResult } from '../protocol';
 import { compileForRun } from '../runs';
 import { runJob, type WorkerReply, type WorkerRequest } from './pool';
 import { RunPacker } from './pool-wire';
@@ -42,17 +41,18 @@ function batch(m: Extract<WorkerRequest, { type: 'batch' }>): void {
   }
   const stop = new Int32Array(m.stop);
   const opts: RunOptions = m.cancellable ? { ...m.run, cancel: { get cancelled() { return Atomics.load(stop, 0) !== 0; } } } : (m.run ?? {});
-  const runs: RunResult[] = [];
   for (const job of m.jobs) {
     if (Atomics.load(stop, 0) !== 0) break;
     try {
-      runs.push(runJob(loaded.c, loaded.spec, job, opts));
+      // packed as soon as it is done: the run's arrays are garbage before the next run starts
+      packer.add(runJob(loaded.c, loaded.spec, job, opts));
     } catch (e) {
+      packer.finish();
       reply({ type: 'failed', batch: m.batch, message: `job '${job.label}' failed: ${(e as Error).message}` });
       return;
     }
   }
-  const packed = packer.pack(runs);
+  const packed = packer.finish();
   reply({ type: 'done', batch: m.batch, runs: packed.batch }, packed.transfer);
 }
 
