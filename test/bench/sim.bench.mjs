@@ -33,7 +33,8 @@ export { compileAnalysis } from './language/src/model/compile';
 export { runOnce } from './language/src/sim/run';
 export { runSpec } from './language/src/sim/sweep';
 export { createIntegrator } from './language/src/sim/solver';
-export { createRunPool, plainRun, runPool } from './language/src/sim/pool';
+export { createRunPool, plainRun, runJob, runPool } from './language/src/sim/pool';
+export { compileForRun } from './language/src/runs';
 export { rawMetrics, GL3_NODES, GL3_WEIGHTS } from './language/src/sim/metrics';
 `;
 await build({ stdin: { contents: entry, resolveDir: root, loader: 'ts' }, outfile: lib, bundle: true, platform: 'node', format: 'cjs', target: 'node20', logLevel: 'warning' });
@@ -349,11 +350,12 @@ const ratioOnly = process.argv.includes('--ratio');
 // with every run turned into number arrays on the main thread (plainRun, as the sweep command
 // does for its report); cold, one runPool call on 2 new workers that counts their start-up,
 // the compile and the warm-up of the code (what the sweep command pays once per sweep); and,
-// in the same rounds, the speed-up of a plain compute loop on 1 and 2 threads: what the machine
-// gives at the time (below 2 when other work shares the CPUs).
+// in the same rounds, two references for what the machine gives at the time: the same 400 runs
+// on 1 and 2 threads that each compile the loop and run their half with no messages at all
+// (runJob, results kept), and a compute loop that touches no memory.
 const jobs = Array.from({ length: 400 }, (_, i) => ({ label: `tilt ${i}`, starts: [['Boom.tilt', 0.05 + (0.9 * i) / 399]] }));
 const threadLoad = loadavg().map((v) => v.toFixed(2)).join(' ');
-const th1 = [], th2 = [], tp1 = [], tp2 = [], loop1 = [], loop2 = [];
+const th1 = [], th2 = [], tp1 = [], tp2 = [], solo1 = [], solo2 = [], loop1 = [], loop2 = [];
 let cold = NaN;
 if (!ratioOnly) {
   const pools = [L.createRunPool({ threads: 1, workerPath }), L.createRunPool({ threads: 2, workerPath })];
@@ -367,20 +369,39 @@ if (!ratioOnly) {
   };
   const { Worker } = await import('node:worker_threads');
   const loopSrc = `const { parentPort } = require('node:worker_threads');
-parentPort.on('message', (n) => { let s = 0; for (let i = 0; i < n; i++) s += Math.sin(i * 1e-3) * Math.cos(i * 2e-3); parentPort.postMessage(s); });`;
+const L = require(${JSON.stringify(lib)});
+const c = L.compileForRun(L.analyze(${JSON.stringify(text)})).compiled, spec = L.runSpec(c);
+const jobs = ${JSON.stringify(jobs)}, opts = ${JSON.stringify(opts)};
+parentPort.on('message', (m) => {
+  if (m.loop) { let s = 0; for (let i = 0; i < m.loop; i++) s += Math.sin(i * 1e-3) * Math.cos(i * 2e-3); return parentPort.postMessage(s); }
+  const kept = [];
+  for (let i = m.from; i < m.to; i++) kept.push(L.runJob(c, spec, jobs[i], opts));
+  parentPort.postMessage(kept.length);
+});
+parentPort.postMessage('ready');`;
   const loopers = [new Worker(loopSrc, { eval: true }), new Worker(loopSrc, { eval: true })];
+  await Promise.all(loopers.map((w) => new Promise((r) => w.once('message', r))));
+  const ask = (w, m) => new Promise((r) => { w.once('message', r); w.postMessage(m); });
   const loopRate = async (k, n) => {
     const t0 = performance.now();
-    await Promise.all(loopers.slice(0, k).map((w) => new Promise((r) => { w.once('message', r); w.postMessage(n); })));
+    await Promise.all(loopers.slice(0, k).map((w) => ask(w, { loop: n })));
     return (k * n) / (performance.now() - t0);
   };
+  const soloRate = async (k) => {
+    const t0 = performance.now();
+    await Promise.all(loopers.slice(0, k).map((w, i) => ask(w, { from: (i * jobs.length) / k, to: ((i + 1) * jobs.length) / k })));
+    return jobs.length / ((performance.now() - t0) / 1000);
+  };
   await loopRate(2, 1e6);
+  for (let k = 0; k < 2; k++) await soloRate(2);
   for (const pool of pools) for (let k = 0; k < 2; k++) await call(pool, false);
   for (let r = 0; r < ROUNDS; r++) {
     th1.push(await call(pools[0], false));
     th2.push(await call(pools[1], false));
     tp1.push(await call(pools[0], true));
     tp2.push(await call(pools[1], true));
+    solo1.push(await soloRate(1));
+    solo2.push(await soloRate(2));
     loop1.push(await loopRate(1, 6e6));
     loop2.push(await loopRate(2, 6e6));
   }
@@ -393,6 +414,7 @@ parentPort.on('message', (n) => { let s = 0; for (let i = 0; i < n; i++) s += Ma
 const r1 = ratioOnly ? NaN : med(th1), r2 = ratioOnly ? NaN : med(th2);
 const p1 = ratioOnly ? NaN : med(tp1), p2 = ratioOnly ? NaN : med(tp2);
 const loopUp = ratioOnly ? NaN : med(loop2) / med(loop1);
+const s1 = ratioOnly ? NaN : med(solo1), s2 = ratioOnly ? NaN : med(solo2);
 
 // --- scipy RK45
 let usScipy = null;
@@ -429,7 +451,8 @@ const rows = [
   ['speed-up 2 vs 1 thread (target ≥ 1.9)', (r2 / r1).toFixed(2), ''],
   ['simulations/s on 1 / 2 worker threads, results as number arrays', `${p1.toFixed(0)} / ${p2.toFixed(0)}`, `speed-up ${(p2 / p1).toFixed(2)}`],
   ['simulations/s on 2 new worker threads, cold (start-up and compile timed)', cold.toFixed(0), 'one runPool call'],
-  ['speed-up 2 vs 1 thread of a plain compute loop (the machine now)', loopUp.toFixed(2), ''],
+  ['reference: same runs on 1 / 2 threads with no messages (simulations/s)', `${s1.toFixed(0)} / ${s2.toFixed(0)}`, `speed-up ${(s2 / s1).toFixed(2)}: what the machine gives these runs now`],
+  ['reference: speed-up 2 vs 1 thread of a compute loop touching no memory', loopUp.toFixed(2), ''],
   ['scipy solve_ivp RK45 (µs/simulation)', usScipy === null ? 'n/a' : usScipy.toFixed(0), usScipy === null ? 'python3 with scipy not found' : ''],
   ['scipy / pipeline (target ≥ 60)', usScipy === null ? 'n/a' : (usScipy / usPipeline).toFixed(1), ''],
 ];
