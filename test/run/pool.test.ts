@@ -116,7 +116,8 @@ describe('runs on the wire', () => {
       f(b);
       return () => unpackRuns(b);
     };
-    expect(bad((b) => (b.data = b.data.subarray(0, b.data.length - 1)))).toThrow(/run pool: a batch has fewer numbers than its values/);
+    expect(bad((b) => (b.nums = b.nums.subarray(0, b.nums.length - 1)))).toThrow(/run pool: a batch has fewer numbers than its values/);
+    expect(bad((b) => (b.data = b.data.subarray(0, b.data.length - 1)))).toThrow(/claims \d+ samples and holds \d+/);
     expect(bad((b) => (b.runs = 3))).toThrow(/run pool: a batch ends in the middle of a value/);
     expect(bad((b) => (b.runs = 1))).toThrow(/left over/);
     expect(bad((b) => (b.samples = b.data.length + 1))).toThrow(/claims/);

@@ -4,7 +4,8 @@
 // work there should: every object is rebuilt key by key from its serialized key strings, every
 // number array element by element. A batch is therefore sent as
 //  - the sample arrays (t and every signal of every run) one after another in a Float64Array,
-//    followed by every other number of the runs; its buffer is transferred, not copied;
+//    and every other number of the runs in a second one; their buffers are transferred, not
+//    copied;
 //  - the structure as op codes in an Int32Array (transferred too): what each value is, with the
 //    key list ("shape") of each object and each string sent once per batch;
 //  - values the codec does not take apart (none in a RunResult: anything not a plain object,
@@ -26,9 +27,12 @@ export type PooledRun = Omit<RunResult, 't' | 'signals'> & { t: Float64Array; si
 
 export interface WireBatch {
   runs: number;
-  /** Count of sample values at the start of `data`; the other numbers follow them. */
+  /** Count of sample values in `data`. */
   samples: number;
+  /** The samples, one array after another. */
   data: Float64Array;
+  /** Every other number, in the order the values were packed. */
+  nums: Float64Array;
   ops: Int32Array;
   /** Key lists of the batch's objects, each once. */
   shapes: string[][];
@@ -42,6 +46,15 @@ export interface WireBatch {
 const NUM = 0, STR = 1, TRUE = 2, FALSE = 3, NULL = 4, UNDEF = 5, ARR = 6, OBJ = 7, SAMPLES = 8, OTHER = 9;
 /** Nesting below this is sent as it is (a RunResult nests four deep). */
 const MAX_DEPTH = 32;
+
+/**
+ * A Float64Array for a batch's samples. Its memory is not cleared first (every value the batch
+ * refers to is written before it is sent), where the runtime allows that.
+ */
+function sampleBuffer(n: number): Float64Array {
+  if (typeof Buffer !== 'undefined' && typeof Buffer.allocUnsafeSlow === 'function') return new Float64Array(Buffer.allocUnsafeSlow(n * 8).buffer, 0, n);
+  return new Float64Array(n);
+}
 
 /** Copies a number array into a Float64Array: for arrays built with holes (new Array(n)) twice as fast as set(). */
 function copyInto(c: ArrayLike<number>, d: Float64Array, o: number): void {
@@ -64,23 +77,32 @@ interface ShapeNode {
 }
 
 /**
- * Packs runs into batches. Each run is taken apart as it is added (its samples copied into the
- * packer's scratch), so a worker holds no more than the run in hand; the scratch buffers are
- * kept from batch to batch.
+ * Packs runs into batches. Each run is taken apart as it is added, its samples written straight
+ * into the buffer that will be transferred, so a worker holds no more than the run in hand and
+ * no sample is copied twice; the other scratch buffers are kept from batch to batch.
  */
 export class RunPacker {
   private ops = new Int32Array(4096);
   private nOps = 0;
   private nums = new Float64Array(1024);
   private nNums = 0;
-  private smp = new Float64Array(32768);
+  /** The batch's samples: the buffer that goes out with it (made when the batch's first run comes). */
+  private smp: Float64Array | undefined;
   private nSamples = 0;
   private nRuns = 0;
+  private expected = 1;
+  /** Samples of a run in the last batch, to size the next batch's buffer. */
+  private perRun = 0;
   private shapes: string[][] = [];
   private shapeRoot: ShapeNode = { next: new Map(), id: -1 };
   private strs: string[] = [];
   private strIds = new Map<string, number>();
   private others: unknown[] = [];
+
+  /** Starts a batch of about `runs` runs (sizes its sample buffer; more or fewer may come). */
+  begin(runs: number): void {
+    this.expected = Math.max(1, runs);
+  }
 
   /** Adds a run to the batch being packed. */
   add(r: RunResult): void {
@@ -90,22 +112,27 @@ export class RunPacker {
 
   /** The batch of the runs added since the last one, and the buffers to transfer with it. */
   finish(): { batch: WireBatch; transfer: ArrayBuffer[] } {
-    const data = new Float64Array(this.nSamples + this.nNums);
-    data.set(this.smp.subarray(0, this.nSamples));
-    data.set(this.nums.subarray(0, this.nNums), this.nSamples);
+    let data = this.smp ? this.smp.subarray(0, this.nSamples) : new Float64Array(0);
+    // a buffer much larger than its samples (runs that failed early) is not sent as it is
+    if (this.smp && this.nSamples < 0.75 * this.smp.length) data = data.slice();
+    const nums = this.nums.slice(0, this.nNums);
     const ops = this.ops.slice(0, this.nOps);
-    const batch: WireBatch = { runs: this.nRuns, samples: this.nSamples, data, ops, shapes: this.shapes, strs: this.strs, others: this.others };
+    const batch: WireBatch = { runs: this.nRuns, samples: this.nSamples, data, nums, ops, shapes: this.shapes, strs: this.strs, others: this.others };
+    if (this.nRuns) this.perRun = Math.ceil(this.nSamples / this.nRuns);
+    this.smp = undefined;
     this.nOps = this.nNums = this.nSamples = this.nRuns = 0;
+    this.expected = 1;
     this.shapes = [];
     this.shapeRoot = { next: new Map(), id: -1 };
     this.strs = [];
     this.strIds.clear();
     this.others = [];
-    return { batch, transfer: [data.buffer as ArrayBuffer, ops.buffer as ArrayBuffer] };
+    return { batch, transfer: [data.buffer as ArrayBuffer, nums.buffer as ArrayBuffer, ops.buffer as ArrayBuffer] };
   }
 
   /** A batch of the runs (add each, then finish). */
   pack(runs: RunResult[]): { batch: WireBatch; transfer: ArrayBuffer[] } {
+    this.begin(runs.length);
     for (const r of runs) this.add(r);
     return this.finish();
   }
@@ -157,13 +184,15 @@ export class RunPacker {
     const n = col.length;
     this.op(SAMPLES);
     this.op(n);
-    if (this.nSamples + n > this.smp.length) {
-      const g = new Float64Array(Math.max(2 * this.smp.length, this.nSamples + n));
-      g.set(this.smp.subarray(0, this.nSamples));
-      this.smp = g;
+    let smp = this.smp;
+    if (!smp || this.nSamples + n > smp.length) {
+      const want = Math.max(this.nSamples + n, smp ? 2 * smp.length : this.expected * Math.max(this.perRun, n));
+      const g = sampleBuffer(want);
+      if (smp) g.set(smp.subarray(0, this.nSamples));
+      this.smp = smp = g;
     }
-    if (col instanceof Float64Array) this.smp.set(col, this.nSamples);
-    else copyInto(col, this.smp, this.nSamples);
+    if (col instanceof Float64Array) smp.set(col, this.nSamples);
+    else copyInto(col, smp, this.nSamples);
     this.nSamples += n;
   }
 
@@ -243,22 +272,21 @@ function put(o: Record<string, unknown>, k: string, v: unknown): void {
 class Reader {
   private pc = 0;
   private sOff = 0;
-  private nOff: number;
+  private nOff = 0;
   private readonly hasProto: boolean[];
 
   constructor(private readonly b: WireBatch) {
-    this.nOff = b.samples;
     this.hasProto = b.shapes.map((s) => s.includes('__proto__'));
   }
 
   /** Every op code, sample and number read. */
   get complete(): boolean {
-    return this.pc === this.b.ops.length && this.sOff === this.b.samples && this.nOff === this.b.data.length;
+    return this.pc === this.b.ops.length && this.sOff === this.b.samples && this.nOff === this.b.nums.length;
   }
 
   get leftOver(): string {
     const b = this.b;
-    return `${b.ops.length - this.pc} op codes, ${b.samples - this.sOff} samples and ${b.data.length - this.nOff} numbers`;
+    return `${b.ops.length - this.pc} op codes, ${b.samples - this.sOff} samples and ${b.nums.length - this.nOff} numbers`;
   }
 
   private operand(): number {
@@ -271,9 +299,9 @@ class Reader {
     const op = this.operand();
     switch (op) {
       case NUM: {
-        const data = this.b.data;
-        if (this.nOff >= data.length) throw new Error('run pool: a batch has fewer numbers than its values');
-        return data[this.nOff++];
+        const nums = this.b.nums;
+        if (this.nOff >= nums.length) throw new Error('run pool: a batch has fewer numbers than its values');
+        return nums[this.nOff++];
       }
       case STR: {
         const i = this.operand(), strs = this.b.strs;
@@ -324,7 +352,7 @@ class Reader {
 
 /** The runs of a batch, their samples as views on its data buffer. */
 export function unpackRuns(b: WireBatch): PooledRun[] {
-  if (!(b.samples >= 0 && b.samples <= b.data.length)) throw new Error(`run pool: a batch claims ${b.samples} samples in ${b.data.length} values`);
+  if (b.samples !== b.data.length) throw new Error(`run pool: a batch claims ${b.samples} samples and holds ${b.data.length}`);
   const r = new Reader(b);
   const out: PooledRun[] = [];
   for (let i = 0; i < b.runs; i++) out.push(r.read() as PooledRun);

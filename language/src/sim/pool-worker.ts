@@ -41,6 +41,7 @@ function batch(m: Extract<WorkerRequest, { type: 'batch' }>): void {
   }
   const stop = new Int32Array(m.stop);
   const opts: RunOptions = m.cancellable ? { ...m.run, cancel: { get cancelled() { return Atomics.load(stop, 0) !== 0; } } } : (m.run ?? {});
+  packer.begin(m.jobs.length);
   for (const job of m.jobs) {
     if (Atomics.load(stop, 0) !== 0) break;
     try {
