@@ -313,7 +313,10 @@ export class LoopParser extends EmbeddedActionsParser {
   private layout: TokenLayout = { breakBefore: new Uint8Array(0), nested: new Uint8Array(0) };
   // Start offsets of the tokens consumed so far (inserted ones left out) and the end of the last
   // one: a rule's span runs from the first token it consumed to the last.
-  private starts: number[] = [];
+  // (a typed array of one slot per token, so that it is neither grown nor copied by the
+  // collector while the syntax tree is being built; nStarts is its length in use)
+  private starts = new Float64Array(0);
+  private nStarts = 0;
   private lastEnd = 0;
   // The value of the last rule that failed (what it had read), for its caller or its recovery.
   private pending: unknown = undefined;
@@ -343,7 +346,13 @@ export class LoopParser extends EmbeddedActionsParser {
     self.consumeInternal = (tt, idx, opts) => {
       const t = consume.call(this, tt, idx, opts);
       if (!t.isInsertedInRecovery && validOffset(t.startOffset)) {
-        this.starts.push(t.startOffset);
+        if (this.nStarts === this.starts.length) {
+          // cannot happen (each input token is consumed once); grown rather than lost if it does
+          const grown = new Float64Array(2 * this.starts.length + 16);
+          grown.set(this.starts);
+          this.starts = grown;
+        }
+        this.starts[this.nStarts++] = t.startOffset;
         this.lastEnd = t.startOffset + t.image.length;
       }
       return t;
@@ -352,7 +361,8 @@ export class LoopParser extends EmbeddedActionsParser {
 
   setInput(tokens: IToken[], text: string): void {
     this.layout = layoutOf(tokens, text);
-    this.starts = [];
+    if (this.starts.length < tokens.length + 1) this.starts = new Float64Array(tokens.length + 1);
+    this.nStarts = 0;
     this.lastEnd = 0;
     this.pending = undefined;
     this.hasPending = false;
@@ -385,7 +395,7 @@ export class LoopParser extends EmbeddedActionsParser {
           body(f);
           return undefined as T;
         }
-        const n0 = this.starts.length;
+        const n0 = this.nStarts;
         try {
           body(f);
         } catch (e) {
@@ -411,7 +421,7 @@ export class LoopParser extends EmbeddedActionsParser {
   }
 
   private finish(f: Frame, n0: number, build: (f: Frame, span: Span) => unknown): unknown {
-    if (n0 < this.starts.length) return build(f, { start: this.starts[n0], end: this.lastEnd });
+    if (n0 < this.nStarts) return build(f, { start: this.starts[n0], end: this.lastEnd });
     return new Deferred(f, build);
   }
 
@@ -912,7 +922,7 @@ export class LoopParser extends EmbeddedActionsParser {
       // most operands have no prefix: the repetition (and its end-of-repetition recovery check)
       // runs only when one is next; the grammar is recorded with it either way
       if (this.RECORDING_PHASE || isPrefix(this.LA(1).tokenType)) this.MANY(this.prefix);
-      f.p0 = this.starts.length;
+      f.p0 = this.nStarts;
       this.OR((this.primaryAlts ??= [
         {
           ALT: () => {
@@ -993,7 +1003,7 @@ export class LoopParser extends EmbeddedActionsParser {
       // the primary's own span: from its first token (prefix operators left out) to the end
       // (an operand that read nothing at all is built later, once its caller knows where it
       // stands: its span is then empty and later tokens are not its own)
-      const read = p0 !== undefined && p0 < this.starts.length && span.end > span.start;
+      const read = p0 !== undefined && p0 < this.nStarts && span.end > span.start;
       const pspan = read ? { start: this.starts[p0], end: span.end } : { start: span.end, end: span.end };
       return { pfx: f.pfx as IToken[] | undefined, prim: read ? this.primaryOf(f, pspan) : undefined, span };
     },
