@@ -299,35 +299,23 @@ function quartic(ys: Float64Array, th: number): number {
   );
 }
 
+// the quartic whose root quarticRoot seeks, signed so that it falls through zero (module
+// state instead of a closure per call)
+let rootYs: Float64Array = new Float64Array(5);
+let rootSign = 1;
+const signedQuartic = (th: number): number => rootSign * quartic(rootYs, th);
+
 /**
  * θ of the sign change of the quartic through a step's five samples between samples k and k+1
- * (ys[k]·ys[k+1] < 0), by Illinois regula falsi to 1e-12 in θ. The dense output of the
+ * (ys[k]·ys[k+1] < 0), by the Illinois method of locateRoot. The dense output of the
  * 'adaptive' method is a quartic in θ, so for a signal linear in the states this is the root
  * of the dense output itself; otherwise the quartic is off by the order of the dense output's
  * own error, and a cut off by δ changes the IAE by only about 2·|y'|·δ².
  */
 export function quarticRoot(ys: Float64Array, k: number): number {
-  let ta = QUARTIC_NODES[k], tb = QUARTIC_NODES[k + 1];
-  let ya = ys[k], yb = ys[k + 1];
-  let side = 0;
-  for (let it = 0; it < 80 && tb - ta > 1e-12; it++) {
-    let tm = (ta * yb - tb * ya) / (yb - ya);
-    if (!(tm > ta && tm < tb)) tm = 0.5 * (ta + tb);
-    const ym = quartic(ys, tm);
-    if (ym === 0) return tm;
-    if (ym * ya < 0) {
-      tb = tm;
-      yb = ym;
-      if (side === -1) ya /= 2;
-      side = -1;
-    } else {
-      ta = tm;
-      ya = ym;
-      if (side === 1) yb /= 2;
-      side = 1;
-    }
-  }
-  return 0.5 * (ta + tb);
+  rootYs = ys;
+  rootSign = ys[k] > 0 ? 1 : -1;
+  return locateRoot(signedQuartic, QUARTIC_NODES[k], Math.abs(ys[k]), QUARTIC_NODES[k + 1], -Math.abs(ys[k + 1]));
 }
 
 export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOptions = {}): RunResult {
