@@ -74,14 +74,15 @@ export function layoutOf(tokens: IToken[], text: string): TokenLayout {
   const nested = new Uint8Array(n);
   let depth = 0;
   let prevEnd = 0;
+  // the first line break at or after prevEnd (no token but white space and comments holds one)
+  let nl = -1;
   for (let i = 0; i < n; i++) {
     const tok = tokens[i];
-    for (let k = prevEnd; k < tok.startOffset; k++) {
-      if (text.charCodeAt(k) === 10) {
-        breakBefore[i] = i > 0 ? 1 : 0;
-        break;
-      }
+    if (nl < prevEnd && nl !== Infinity) {
+      nl = text.indexOf('\n', prevEnd);
+      if (nl < 0) nl = Infinity;
     }
+    if (nl < tok.startOffset && i > 0) breakBefore[i] = 1;
     prevEnd = tok.startOffset + tok.image.length;
     const tt = tok.tokenType;
     if (tt === T.RParen || tt === T.RBracket) depth = Math.max(0, depth - 1);
