@@ -24,15 +24,20 @@ afterAll(async () => {
 const BOOM = readFileSync(join(ROOT, 'samples', 'boom.loop'), 'utf8');
 
 /** A loop whose run takes long: a fast oscillator over a long time at a tight tolerance. */
+// The nominal run and a sweep of 200 more, of about 70,000 steps each (some 9 s in all here):
+// every run stays within the step limit of a run, so only the time budget can stop the job,
+// even on a much faster machine
 const SLOW = `plant Osc {
+  param k = 1 [1/s^2]
   state x [m]
   state v [m/s]
   x' = v
-  v' = -(1e6 [1/s^2]) * x
+  v' = -k * x
 }
 loop Long {
   start Osc.x = 1 [m]
-  simulate 1e6 [s] { tolerance = 1e-12, points = 1000 }
+  simulate 800 [s] { tolerance = 1e-12, points = 1000 }
+  sweep Osc.k over 0.5 [1/s^2] .. 1.5 [1/s^2] steps 200
 }
 `;
 
@@ -90,9 +95,9 @@ describe('runs', () => {
     const { CancellationTokenSource } = await import('vscode-jsonrpc/node');
     const source = new CancellationTokenSource();
     const started = Date.now();
-    const pending = server.conn.sendRequest('loopwright/run', { uri, loop: 'Long', mode: 'simulate' }, source.token);
+    const pending = server.conn.sendRequest('loopwright/run', { uri, loop: 'Long', mode: 'sweep' }, source.token);
     // While it runs, other requests are answered.
-    const h = await server.request<Hover | null>('textDocument/hover', { textDocument: { uri }, position: { line: 1, character: 9 } });
+    const h = await server.request<Hover | null>('textDocument/hover', { textDocument: { uri }, position: { line: 2, character: 9 } });
     expect((h?.contents as MarkupContent).value).toContain('(state) **x**');
     setTimeout(() => source.cancel(), 300);
     await expect(pending).rejects.toMatchObject({ code: -32800 });
@@ -106,7 +111,7 @@ describe('runs', () => {
     try {
       const uri = freshUri('budget');
       await s.open(uri, SLOW);
-      await expect(s.request('loopwright/run', { uri, loop: 'Long', mode: 'simulate' })).rejects.toThrow(/time budget of 500 ms/);
+      await expect(s.request('loopwright/run', { uri, loop: 'Long', mode: 'sweep' })).rejects.toThrow(/time budget of 500 ms/);
       await alive(s);
     } finally {
       await s.stop();
