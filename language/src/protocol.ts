@@ -96,6 +96,13 @@ export interface RunResult {
   stats: SolverStats;
 }
 
+/**
+ * A run as the engine gives it (runOnce, the run pool): a RunResult whose grid and signals are
+ * Float64Arrays, for the consumers that compute with them. plainRun (sim/plain.ts) gives the
+ * RunResult with number arrays, element by element the same values, for JSON and the report.
+ */
+export type SampledRun = Omit<RunResult, 't' | 'signals'> & { t: Float64Array; signals: Record<string, Float64Array> };
+
 export interface PoleInfo {
   re: number;
   im: number;

@@ -51,6 +51,14 @@ describe('run-time failures', () => {
     expect(run.error?.code).toBe('LW703');
     expect(run.error!.message).toMatch(/method = stiff/);
     expect(run.error!.state).toMatch(/^Fast\./);
+    // the grid up to the failure holds values, every point after it NaN (never stale memory)
+    const y = run.signals['Fast.y'];
+    expect(y.length).toBe(run.t.length);
+    const k = y.findIndex((v) => Number.isNaN(v));
+    expect(k).toBeGreaterThan(0);
+    expect(run.t[k - 1]).toBeLessThanOrEqual(run.error!.time!);
+    expect(Array.from(y.subarray(0, k)).every(Number.isFinite)).toBe(true);
+    expect(Array.from(y.subarray(k)).every(Number.isNaN)).toBe(true);
     const ok = simulate(compile(src('stiff')))[0];
     expect(ok.error).toBeUndefined();
   });

@@ -29,7 +29,7 @@ function here(text: string, jobs: PoolJob[], loop?: string): RunResult[] {
   const r = compileForRun(analyze(text), loop);
   if (!r.compiled) throw new Error(`does not compile: ${r.reason}`);
   const spec = runSpec(r.compiled);
-  return jobs.map((j) => runJob(r.compiled!, spec, j));
+  return jobs.map((j) => plainRun(runJob(r.compiled!, spec, j)));
 }
 
 const tilts = (n: number): PoolJob[] => Array.from({ length: n }, (_, i) => ({ label: `tilt ${i}`, starts: [['Boom.tilt', 0.05 + (0.9 * i) / Math.max(1, n - 1)]] }));

@@ -77,7 +77,7 @@ export function executeRuns(text: string, c: Compiled, spec: RunSpec, o: Executo
       const out: RunResult[] = [];
       for (const job of jobs) {
         await tick();
-        out.push(runJob(c, spec, job));
+        out.push(plainRun(runJob(c, spec, job)));
         onDone?.(out.length);
       }
       return out;

@@ -287,11 +287,11 @@ export function evaluateExpects(c: Compiled, spec: RunSpec, d: ExpectData): Expe
       expectTexts.set(ex, text);
     }
     const test = ex.test;
-    const base = { text, span: ex.span };
+    const span = ex.span;
     if (test.kind !== 'binary' || !['<', '<=', '>', '>=', '==', '!='].includes(test.op)) {
-      return { ...base, pass: false, measured: null, measuredText: '', error: 'not a comparison' };
+      return { text, span, pass: false, measured: null, measuredText: '', error: 'not a comparison' };
     }
-    if (!d.complete) return { ...base, pass: false, measured: null, measuredText: '', error: 'the run did not finish' };
+    if (!d.complete) return { text, span, pass: false, measured: null, measuredText: '', error: 'the run did not finish' };
     try {
       const left = value(c, d, test.left);
       const right = value(c, d, test.right);
@@ -302,9 +302,9 @@ export function evaluateExpects(c: Compiled, spec: RunSpec, d: ExpectData): Expe
       const measured = unit ? toDisplay(left, unit) : left;
       const shown = Number(measured.toPrecision(4));
       const measuredText = unit && unit.text ? `${shown} ${unit.text}` : `${shown}`;
-      return { ...base, pass, measured, measuredText };
+      return { text, span, pass, measured, measuredText };
     } catch (e) {
-      return { ...base, pass: false, measured: null, measuredText: '', error: (e as Error).message };
+      return { text, span, pass: false, measured: null, measuredText: '', error: (e as Error).message };
     }
   });
 }

@@ -15,7 +15,10 @@
 // was: numbers bit for bit (NaN, -0, infinities), strings, booleans, null, undefined, key order.
 // Shared references are not kept (a value reached twice arrives as two copies), as in JSON.
 
-import type { RunResult } from '../protocol';
+import type { RunResult, SampledRun } from '../protocol';
+import { put, sampleBuffer } from './plain';
+
+export { plainRun } from './plain';
 
 /**
  * A run as the pool returns it: a RunResult whose samples are Float64Array views on the buffer
@@ -23,7 +26,7 @@ import type { RunResult } from '../protocol';
  * runs are held). plainRun turns it into a RunResult with number arrays for consumers that need
  * them (JSON, the report); element by element the values are the same.
  */
-export type PooledRun = Omit<RunResult, 't' | 'signals'> & { t: Float64Array; signals: Record<string, Float64Array> };
+export type PooledRun = SampledRun;
 
 export interface WireBatch {
   runs: number;
@@ -47,15 +50,6 @@ const NUM = 0, STR = 1, TRUE = 2, FALSE = 3, NULL = 4, UNDEF = 5, ARR = 6, OBJ =
 /** Nesting below this is sent as it is (a RunResult nests four deep). */
 const MAX_DEPTH = 32;
 
-/**
- * A Float64Array for a batch's samples. Its memory is not cleared first (every value the batch
- * refers to is written before it is sent), where the runtime allows that.
- */
-function sampleBuffer(n: number): Float64Array {
-  if (typeof Buffer !== 'undefined' && typeof Buffer.allocUnsafeSlow === 'function') return new Float64Array(Buffer.allocUnsafeSlow(n * 8).buffer, 0, n);
-  return new Float64Array(n);
-}
-
 /** Copies a number array into a Float64Array: for arrays built with holes (new Array(n)) twice as fast as set(). */
 function copyInto(c: ArrayLike<number>, d: Float64Array, o: number): void {
   const n = c.length;
@@ -68,6 +62,9 @@ function copyInto(c: ArrayLike<number>, d: Float64Array, o: number): void {
   }
   for (; i < n; i++) d[o + i] = c[i];
 }
+
+/** A sample array: a number array (RunResult) or a Float64Array (SampledRun). */
+const isSamples = (v: unknown): v is ArrayLike<number> => Array.isArray(v) || v instanceof Float64Array;
 
 const isPlainObject = (v: object): v is Record<string, unknown> => Object.getPrototypeOf(v) === Object.prototype;
 
@@ -105,7 +102,7 @@ export class RunPacker {
   }
 
   /** Adds a run to the batch being packed. */
-  add(r: RunResult): void {
+  add(r: RunResult | SampledRun): void {
     this.run(r);
     this.nRuns++;
   }
@@ -131,7 +128,7 @@ export class RunPacker {
   }
 
   /** A batch of the runs (add each, then finish). */
-  pack(runs: RunResult[]): { batch: WireBatch; transfer: ArrayBuffer[] } {
+  pack(runs: Array<RunResult | SampledRun>): { batch: WireBatch; transfer: ArrayBuffer[] } {
     this.begin(runs.length);
     for (const r of runs) this.add(r);
     return this.finish();
@@ -197,21 +194,21 @@ export class RunPacker {
   }
 
   /** A run: as any object, but t and the signals' arrays go to the samples. */
-  private run(r: RunResult): void {
+  private run(r: RunResult | SampledRun): void {
     const rec = r as unknown as Record<string, unknown>;
     const keys = Object.keys(rec);
     this.op(OBJ);
     this.op(this.shape(keys));
     for (const k of keys) {
       const v = rec[k];
-      if (k === 't' && Array.isArray(v)) this.samples(v);
+      if (k === 't' && isSamples(v)) this.samples(v);
       else if (k === 'signals' && v !== null && typeof v === 'object' && isPlainObject(v)) {
         const names = Object.keys(v);
         this.op(OBJ);
         this.op(this.shape(names));
         for (const n of names) {
           const col = v[n];
-          if (Array.isArray(col)) this.samples(col);
+          if (isSamples(col)) this.samples(col);
           else this.value(col, 2);
         }
       } else this.value(v, 1);
@@ -260,12 +257,6 @@ export class RunPacker {
     this.op(this.others.length);
     this.others.push(v);
   }
-}
-
-/** Sets a key as an own property, '__proto__' included. */
-function put(o: Record<string, unknown>, k: string, v: unknown): void {
-  if (k === '__proto__') Object.defineProperty(o, k, { value: v, enumerable: true, writable: true, configurable: true });
-  else o[k] = v;
 }
 
 /** Reads a batch's values back, in the order they were packed. */
@@ -358,18 +349,4 @@ export function unpackRuns(b: WireBatch): PooledRun[] {
   for (let i = 0; i < b.runs; i++) out.push(r.read() as PooledRun);
   if (!r.complete) throw new Error(`run pool: a batch of ${b.runs} runs has ${r.leftOver} left over`);
   return out;
-}
-
-function plainArray(v: ArrayLike<number>): number[] {
-  const n = v.length;
-  const a = new Array<number>(n);
-  for (let i = 0; i < n; i++) a[i] = v[i];
-  return a;
-}
-
-/** A pooled run with number arrays, as in-process runs give it (the same keys, in the same order). */
-export function plainRun(r: PooledRun): RunResult {
-  const signals: Record<string, number[]> = {};
-  for (const k of Object.keys(r.signals)) put(signals, k, plainArray(r.signals[k]));
-  return { ...r, t: plainArray(r.t), signals };
 }

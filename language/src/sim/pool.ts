@@ -15,7 +15,7 @@
 import { Worker } from 'node:worker_threads';
 import { join } from 'node:path';
 import type { Compiled } from '../model/compile';
-import type { RunResult } from '../protocol';
+import type { RunResult, SampledRun } from '../protocol';
 import { failedRun, runOnce, type Cancellation, type RunOptions } from './run';
 import type { RunSpec } from './sweep';
 import { plainRun, unpackRuns, type PooledRun, type WireBatch } from './pool-wire';
@@ -32,7 +32,7 @@ export interface PoolJob {
 }
 
 /** One job run in this thread, exactly as a worker of the pool runs it. */
-export function runJob(c: Compiled, spec: RunSpec, job: PoolJob, opts: RunOptions = {}): RunResult {
+export function runJob(c: Compiled, spec: RunSpec, job: PoolJob, opts: RunOptions = {}): SampledRun {
   const input = { label: job.label, kind: job.kind ?? ('sweep' as const), sweep: job.sweep, p: c.params, x0: c.start };
   const pr = job.params?.length ? c.makeParams(new Map(job.params)) : { ok: true as const, p: c.params };
   if (!pr.ok) return failedRun(input, spec, { code: 'LW509', message: `${job.label}: ${pr.message}`, time: 0 });

@@ -9,7 +9,8 @@
 import type { Compiled } from '../model/compile';
 import { AlgebraicLoopFailure } from '../model/loop';
 import { LimitMode, type LoopEvaluator, type TracedSignal } from '../model/types';
-import type { LoopRunReport, RunError, RunResult, SignalInfo, SignalMetrics, SolverStats } from '../protocol';
+import type { LoopRunReport, RunError, RunResult, SampledRun, SignalInfo, SignalMetrics, SolverStats } from '../protocol';
+import { plainRun, sampleBuffer } from './plain';
 import { createIntegrator, type Integrator, type IntegratorMethod, type SegmentResult, type StepView } from './solver';
 import { eventValue, hysteresis, locateRoot, modeFor, nextMode } from './events';
 import { GL3_NODES, GL3_WEIGHTS, displayMetricsOf, recovers } from './metrics';
@@ -94,10 +95,19 @@ class RunDriver {
   readonly iaeTs = new Float64Array(5);
   readonly iaeYs = new Float64Array(5);
   readonly iaeCuts = new Float64Array(6);
-  // grid: times for (points, tEnd); the values are in the merged samples, at gridAt[i]
+  // grid: times for (points, tEnd)
   gridT = new Float64Array(0);
-  gridAt = new Int32Array(0);
   private gridEnd = NaN;
+  /**
+   * The run's result samples, written as the grid points are reached: the grid times, then one
+   * row of `points` per shown signal in display units (a new buffer per run: the result keeps it).
+   */
+  out = new Float64Array(0);
+  private outPoints = 0;
+  /** Traced index of each shown signal, in order, with its display scale and offset. */
+  readonly shownJ: Int32Array;
+  private readonly shownScale: Float64Array;
+  private readonly shownOffset: Float64Array;
   // Samples for the metrics, merged in time order as the run goes: every grid point and every
   // accepted step's end (a step end on a grid time is not repeated). `my` holds one row of
   // `mCap` per signal; both grow by doubling.
@@ -124,6 +134,10 @@ class RunDriver {
     this.trOne = new Float64Array(nTr);
     this.iae = new Float64Array(nTr);
     this.off = Float64Array.from(c.traced, (tr) => tr.offset);
+    const shown = c.traced.flatMap((tr, j) => (tr.shown ? [j] : []));
+    this.shownJ = Int32Array.from(shown);
+    this.shownScale = Float64Array.from(shown, (j) => c.traced[j].scale);
+    this.shownOffset = Float64Array.from(shown, (j) => c.traced[j].offset);
     this.pre = new Float64Array(nLim);
     this.lo = new Float64Array(nLim);
     this.hi = new Float64Array(nLim);
@@ -199,7 +213,16 @@ class RunDriver {
       for (let i = 0; i < points; i++) this.gridT[i] = i === points - 1 ? tEnd : (tEnd * i) / (points - 1);
       this.gridEnd = tEnd;
     }
-    if (this.gridAt.length !== points) this.gridAt = new Int32Array(points);
+    // every value is written before the run returns: the times here, the signals by writeGrid or unreached
+    this.out = sampleBuffer((1 + this.shownJ.length) * points);
+    this.out.set(this.gridT);
+    this.outPoints = points;
+  }
+
+  /** Grid points from i on were not reached (a failed run): their values are NaN. */
+  unreached(i: number): void {
+    const points = this.outPoints;
+    for (let r = 1; r <= this.shownJ.length; r++) this.out.fill(NaN, r * points + i, (r + 1) * points);
   }
 
   /** Starts a run's merged samples (room for the grid and about as many step ends). */
@@ -238,11 +261,12 @@ class RunDriver {
     this.lastWasGrid = false;
   }
 
-  /** Grid point i: into the merged samples, its index noted. */
+  /** Grid point i: into the merged samples and, in display units, into the result. */
   writeGrid(i: number, tr: Float64Array): void {
-    this.gridAt[i] = this.nMerged;
     this.appendSample(this.gridT[i], tr);
     this.lastWasGrid = true;
+    const out = this.out, shownJ = this.shownJ, points = this.outPoints;
+    for (let r = 0, o = points + i; r < shownJ.length; r++, o += points) out[o] = (tr[shownJ[r]] - this.shownOffset[r]) / this.shownScale[r];
   }
   private lastWasGrid = false;
 }
@@ -318,7 +342,7 @@ export function quarticRoot(ys: Float64Array, k: number): number {
   return locateRoot(signedQuartic, QUARTIC_NODES[k], Math.abs(ys[k]), QUARTIC_NODES[k + 1], -Math.abs(ys[k + 1]));
 }
 
-export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOptions = {}): RunResult {
+export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOptions = {}): SampledRun {
   const started = now();
   const n = c.n;
   const d = driverFor(c);
@@ -770,7 +794,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   for (let k = 0; k < nLim; k++) if (!Number.isNaN(atLimitSince[k]) && t > atLimitSince[k]) atLimit[k].push([atLimitSince[k], t]);
 
   // grid points not reached (failed runs) stay NaN
-  for (let i = nextGrid; i < points; i++) d.gridAt[i] = -1;
+  if (nextGrid < points) d.unreached(nextGrid);
 
   for (let j = 0; j < nTr; j++) if (sameAs[j] !== j) iae[j] = iae[sameAs[j]];
   const s = integrator.stats;
@@ -855,29 +879,27 @@ function assemble(
   stats: SolverStats,
   error: RunError | undefined,
   tail: Tail,
-): RunResult {
+): SampledRun {
   const c = d.c;
   const traced = c.traced;
   const nTr = traced.length;
-  const gridT = d.gridT, gridAt = d.gridAt;
-  const points = gridT.length;
-  const signals: Record<string, number[]> = {};
+  const points = d.gridT.length;
+  const signals: Record<string, Float64Array> = {};
   const metrics: Record<string, SignalMetrics> = {};
   const atLim: Record<string, Array<[number, number]>> = {};
   const duration = spec.duration;
   const mt = d.mt.subarray(0, nMerged);
   const my: Float64Array[] = [];
   for (let j = 0; j < nTr; j++) my.push(d.my.subarray(j * d.mCap, j * d.mCap + nMerged));
+  // the grid and every shown signal were written in one buffer as the run went (writeGrid): a view each
+  const buf = d.out;
+  const t = buf.subarray(0, points);
+  let at = points;
   for (let j = 0; j < nTr; j++) {
     const tr = traced[j];
     if (!tr.shown) continue;
-    const scale = tr.scale, offset = tr.offset;
-    const col: number[] = new Array(points);
-    // grid point i is merged sample gridAt[i] (-1: not reached, a failed run)
-    const yj = my[j];
-    if (offset === 0 && scale === 1) for (let i = 0; i < points; i++) col[i] = gridAt[i] < 0 ? NaN : yj[gridAt[i]];
-    else for (let i = 0; i < points; i++) col[i] = gridAt[i] < 0 ? NaN : (yj[gridAt[i]] - offset) / scale;
-    signals[tr.name] = col;
+    signals[tr.name] = buf.subarray(at, at + points);
+    at += points;
     // metrics in the signal's display unit, read straight from the merged SI samples
     const m = displayMetricsOf(mt, my[j], nMerged, tr, d.iae[j]);
     const sm: SignalMetrics = {
@@ -909,9 +931,7 @@ function assemble(
   }
   const recovered = tail.complete && recovers(d0, dMax, dTail, tail.atol);
   const expects = spec.expects.length ? evaluateExpects(c, spec, { traced, t: mt, y: my, iae: d.iae, atLimit, duration, complete: tail.complete }) : [];
-  const t: number[] = new Array(points);
-  for (let i = 0; i < points; i++) t[i] = gridT[i];
-  const result: RunResult = {
+  const result: SampledRun = {
     label: input.label,
     kind: input.kind,
     t,
@@ -985,7 +1005,7 @@ export function simulate(c: Compiled, opts: SimulateOptions = {}): RunResult[] {
   const mode = opts.mode ?? 'all';
   const plan = plannedRuns(c, spec, mode);
   const runs: RunResult[] = [];
-  runs.push(runOnce(c, spec, plan.nonlinear, opts));
+  runs.push(plainRun(runOnce(c, spec, plan.nonlinear, opts)));
   if ((mode === 'all' && spec.compare) || mode === 'compare') {
     const f = opts.linear ?? linearRunner;
     const lin = f?.(c, spec, { ...plan.nonlinear, label: 'linear', kind: 'linear' }, opts);
@@ -994,14 +1014,13 @@ export function simulate(c: Compiled, opts: SimulateOptions = {}): RunResult[] {
   for (const s of plan.sweeps) {
     if (opts.cancel?.cancelled) break;
     const failed = (s as PlannedRun & { failed?: string }).failed;
-    if (failed) runs.push(failedRun(s, spec, { code: 'LW509', message: `${s.label}: ${failed}`, time: 0 }));
-    else runs.push(runOnce(c, spec, s, opts));
+    runs.push(plainRun(failed ? failedRun(s, spec, { code: 'LW509', message: `${s.label}: ${failed}`, time: 0 }) : runOnce(c, spec, s, opts)));
   }
   return runs;
 }
 
-export function failedRun(input: RunInput, spec: RunSpec, error: RunError): RunResult {
-  const r: RunResult = { label: input.label, kind: input.kind, t: [], signals: {}, atLimit: {}, metrics: {}, expects: [], recovered: false, error, stats: { steps: 0, rejected: 0, evaluations: 0, jacobians: 0, ms: 0 } };
+export function failedRun(input: RunInput, spec: RunSpec, error: RunError): SampledRun {
+  const r: SampledRun = { label: input.label, kind: input.kind, t: new Float64Array(0), signals: {}, atLimit: {}, metrics: {}, expects: [], recovered: false, error, stats: { steps: 0, rejected: 0, evaluations: 0, jacobians: 0, ms: 0 } };
   if (input.sweep) r.sweep = input.sweep;
   void spec;
   return r;
