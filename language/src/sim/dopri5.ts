@@ -21,6 +21,7 @@ if (A[6][1] !== 0 || E[1] !== 0 || D[1] !== 0) throw new Error('dopri5: the writ
 const { safety: SAFE, facMin, facMax, beta: BETA, expo1: EXPO1 } = DOPRI5_CONTROL;
 /** The smallest facOld may become (HNW DOPRI5 code). */
 const FAC_OLD_FLOOR = 1e-4;
+const LOG_FAC_OLD_FLOOR = Math.log(FAC_OLD_FLOOR);
 
 class Dopri5Core implements StepCore {
   readonly order = 5;
@@ -35,7 +36,8 @@ class Dopri5Core implements StepCore {
   private readonly r: Float64Array[];
   private tOld = 0;
   private hOld = 1;
-  private facOld = FAC_OLD_FLOOR;
+  /** log of the last accepted step's error norm (floored): the PI controller's memory. */
+  private logFacOld = LOG_FAC_OLD_FLOOR;
 
   constructor(private readonly ctx: CoreContext) {
     const n = ctx.n;
@@ -48,7 +50,7 @@ class Dopri5Core implements StepCore {
   }
 
   start(t: number, x: Float64Array): SegmentFailure | null {
-    this.facOld = FAC_OLD_FLOOR;
+    this.logFacOld = LOG_FAC_OLD_FLOOR;
     const bad = this.ev.f(t, x, this.k[0]);
     if (bad >= 0) return failure('non-finite', t, `derivative of state component ${bad} is ${this.k[0][bad]} at t = ${fmt(t)}`, bad);
     return null;
@@ -103,13 +105,15 @@ class Dopri5Core implements StepCore {
   }
 
   propose(h: number, err: number, accepted: boolean, rejectedBefore: boolean): number {
-    // HNW I §II.4 with the PI control of their DOPRI5 code.
-    const fac11 = Math.pow(err, EXPO1);
-    if (!accepted) return h / Math.min(1 / facMin, fac11 / SAFE);
-    let fac = fac11 / Math.pow(this.facOld, BETA);
+    // HNW I §II.4 with the PI control of their DOPRI5 code: fac = err^expo1 / facOld^β, taken
+    // as one exponential of logarithms (log facOld is kept from the step that set it), which
+    // costs a third of the two powers
+    const logErr = Math.log(err);
+    if (!accepted) return h / Math.min(1 / facMin, Math.exp(EXPO1 * logErr) / SAFE);
+    let fac = Math.exp(EXPO1 * logErr - BETA * this.logFacOld);
     fac = Math.max(1 / facMax, Math.min(1 / facMin, fac / SAFE));
     let hNew = h / fac;
-    this.facOld = Math.max(err, FAC_OLD_FLOOR);
+    this.logFacOld = err > FAC_OLD_FLOOR ? logErr : LOG_FAC_OLD_FLOOR;
     if (rejectedBefore) hNew = Math.min(hNew, h);
     return hNew;
   }
