@@ -316,7 +316,7 @@ export class LoopParser extends EmbeddedActionsParser {
   // one: a rule's span runs from the first token it consumed to the last.
   // (a typed array of one slot per token, so that it is neither grown nor copied by the
   // collector while the syntax tree is being built; nStarts is its length in use)
-  private starts = new Float64Array(0);
+  private starts = new Int32Array(0);
   private nStarts = 0;
   private lastEnd = 0;
   // The value of the last rule that failed (what it had read), for its caller or its recovery.
@@ -349,7 +349,7 @@ export class LoopParser extends EmbeddedActionsParser {
       if (!t.isInsertedInRecovery && validOffset(t.startOffset)) {
         if (this.nStarts === this.starts.length) {
           // cannot happen (each input token is consumed once); grown rather than lost if it does
-          const grown = new Float64Array(2 * this.starts.length + 16);
+          const grown = new Int32Array(2 * this.starts.length + 16);
           grown.set(this.starts);
           this.starts = grown;
         }
@@ -362,7 +362,7 @@ export class LoopParser extends EmbeddedActionsParser {
 
   setInput(tokens: IToken[], text: string): void {
     this.layout = layoutOf(tokens, text);
-    if (this.starts.length < tokens.length + 1) this.starts = new Float64Array(tokens.length + 1);
+    if (this.starts.length < tokens.length + 1) this.starts = new Int32Array(tokens.length + 1);
     this.nStarts = 0;
     this.lastEnd = 0;
     this.pending = undefined;
