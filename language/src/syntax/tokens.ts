@@ -110,20 +110,56 @@ function matchUnit(text: string, offset: number, tokens: IToken[]): RegExpExecAr
     if (c === 10 || c === 13 || c === 91 || c === 35 /* # */) break;
     i++;
   }
-  const m = [text.slice(offset, i)] as unknown as RegExpExecArray;
-  m.index = offset;
-  m.input = text;
-  return m;
+  unitResult[0] = text.slice(offset, i);
+  return unitResult;
 }
+const unitResult = [''] as unknown as RegExpExecArray;
 
 /**
  * A number. An exponent marker with no digits after it (`1e+`, `2.5e`) is read as part of the
  * number, so that it is reported as one invalid number (LW105) rather than as a number followed
  * by a stray name; `1else` stays a number and a keyword.
  */
+export const NUMBER_PATTERN = /(?:\d+(?:\.\d+)?|\.\d+)(?:[eE][+-]?\d+|[eE][+-](?!\d)|[eE](?![A-Za-z0-9_]))?/y;
+const isDigit = (c: number): boolean => c >= 48 && c <= 57;
+const isWordChar = (c: number): boolean => isDigit(c) || (c >= 65 && c <= 90) || (c >= 97 && c <= 122) || c === 95;
+/** NUMBER_PATTERN at `offset`, read by character code (one result array serves, as for names). */
+export function matchNumber(text: string, offset: number): RegExpExecArray | null {
+  const n = text.length;
+  let i = offset;
+  const digits = (): void => {
+    while (i < n && isDigit(text.charCodeAt(i))) i++;
+  };
+  if (i < n && isDigit(text.charCodeAt(i))) {
+    digits();
+    if (i + 1 < n && text.charCodeAt(i) === 46 && isDigit(text.charCodeAt(i + 1))) {
+      i += 2;
+      digits();
+    }
+  } else if (i + 1 < n && text.charCodeAt(i) === 46 && isDigit(text.charCodeAt(i + 1))) {
+    i += 2;
+    digits();
+  } else return null;
+  const e = i < n ? text.charCodeAt(i) : -1;
+  if (e === 101 || e === 69) {
+    const j = i + 1;
+    const c = j < n ? text.charCodeAt(j) : -1;
+    if (c === 43 || c === 45) {
+      i = j + 1; // a sign: its digits if any (else the number is reported, LW105)
+      digits();
+    } else if (isDigit(c)) {
+      i = j;
+      digits();
+    } else if (!isWordChar(c)) i = j; // `1e` alone (LW105); `1else` is a number and a keyword
+  }
+  numberResult[0] = text.slice(offset, i);
+  return numberResult;
+}
+const numberResult = [''] as unknown as RegExpExecArray;
 export const NumberLit = createToken({
   name: 'NumberLit',
-  pattern: /(?:\d+(?:\.\d+)?|\.\d+)(?:[eE][+-]?\d+|[eE][+-](?!\d)|[eE](?![A-Za-z0-9_]))?/,
+  pattern: { exec: matchNumber },
+  line_breaks: false,
   label: 'a number',
   start_chars_hint: ['0', '1', '2', '3', '4', '5', '6', '7', '8', '9', '.'],
 });
