@@ -111,11 +111,22 @@ interface Frame {
   [k: string]: unknown;
 }
 
-/** An operand of a flat expression: its prefix operators and its primary. */
-interface Operand {
-  pfx: IToken[] | undefined;
-  prim: unknown;
-  span: Span;
+/**
+ * An operand of a flat expression with prefix operators, or one whose primary read nothing: its
+ * parts. An operand without prefixes that read its primary is that primary itself (no wrapper).
+ */
+class Operand {
+  constructor(
+    readonly pfx: IToken[] | undefined,
+    readonly prim: unknown,
+    readonly span: Span,
+  ) {}
+}
+
+/** The parts of an operand value (a primary stands for itself). */
+function partsOf(v: unknown, fallback: Span): Operand {
+  const o = resolve(v, fallback);
+  return o instanceof Operand ? o : new Operand(undefined, o, (o as A.Expr).span);
 }
 
 const NONE: never[] = [];
@@ -237,7 +248,8 @@ function binaryOp(image: string): A.BinaryOp {
 function flatExpression(operands: unknown[], ops: IToken[], span: Span): A.Expr {
   // the commonest expression is one operand without prefixes: its primary as it is
   if (ops.length === 0 && operands.length === 1 && operands[0]) {
-    const o = resolve(operands[0], span) as Operand;
+    const o = resolve(operands[0], span);
+    if (!(o instanceof Operand)) return o as A.Expr;
     if (!o.pfx || o.pfx.length === 0) return expr(o.prim, o.span);
     operands = [o];
   }
@@ -247,7 +259,7 @@ function flatExpression(operands: unknown[], ops: IToken[], span: Span): A.Expr 
   const atom = (): A.Expr => {
     const raw = operands[pos];
     if (!raw) return empty(span.end);
-    const o = resolve(raw, span) as Operand;
+    const o = partsOf(raw, span);
     const pfx = o.pfx ?? NONE;
     if (pre < pfx.length) {
       const t = pfx[pre++];
@@ -999,14 +1011,17 @@ export class LoopParser extends EmbeddedActionsParser {
         },
       ]));
     },
-    (f, span): Operand => {
+    (f, span): Operand | unknown => {
       const p0 = f.p0 as number | undefined;
+      const pfx = f.pfx as IToken[] | undefined;
       // the primary's own span: from its first token (prefix operators left out) to the end
       // (an operand that read nothing at all is built later, once its caller knows where it
       // stands: its span is then empty and later tokens are not its own)
       const read = p0 !== undefined && p0 < this.nStarts && span.end > span.start;
+      // without prefixes the primary starts where the operand does: the operand is its primary
+      if (read && pfx === undefined) return this.primaryOf(f, span);
       const pspan = read ? { start: this.starts[p0], end: span.end } : { start: span.end, end: span.end };
-      return { pfx: f.pfx as IToken[] | undefined, prim: read ? this.primaryOf(f, pspan) : undefined, span };
+      return new Operand(pfx, read ? this.primaryOf(f, pspan) : undefined, span);
     },
     operandFrame,
   );
