@@ -43,6 +43,19 @@ interface Scope {
  * A scope with some fields replaced. Every scope has all fields, in one order, so the name
  * lookups that read them stay fast (a spread would give each combination its own shape).
  */
+/** Targets with no symbol behind them, one object each, shared by every use. */
+const BUILTIN_TARGETS = {
+  pi: Object.freeze({ kind: 'builtin', name: 'pi' }),
+  t: Object.freeze({ kind: 'builtin', name: 't' }),
+  s: Object.freeze({ kind: 'builtin', name: 's' }),
+} as const satisfies Record<string, Target>;
+const functionTargets = new Map<string, Target>();
+function functionTarget(name: string): Target {
+  let t = functionTargets.get(name);
+  if (!t) functionTargets.set(name, (t = Object.freeze({ kind: 'function', name })));
+  return t;
+}
+
 const NO_SCOPE: Scope = {};
 function narrow(scope: Scope, o: Scope): Scope {
   return {
@@ -131,7 +144,7 @@ export class NameChecker {
       } else {
         const sys = this.declareSystem(b);
         this.systems.set(sys.name, sys);
-        this.refs.push({ span: b.name.span, name: sys.name, target: { kind: 'system', system: sys }, decl: true });
+        this.refs.push({ span: b.name.span, name: sys.name, target: sys.target, decl: true });
       }
     }
   }
@@ -156,7 +169,9 @@ export class NameChecker {
       pids: [],
       linears: [],
       linearUsesDeclaredStates: false,
+      target: undefined as unknown as Target,
     };
+    sys.target = { kind: 'system', system: sys };
     b.members.forEach((m, i) => {
       this.memberIndex.set(m, i);
       if (LOOP_ONLY.has(m.kind)) {
@@ -229,9 +244,10 @@ export class NameChecker {
       return;
     }
     if (name.name === 'pi') this.sink.warning('LW202', name.span, "'pi' is a built-in constant; this declaration hides it");
-    const sym: MemberSymbol = { kind, name: name.name, nameSpan: name.span, system: sys, decl };
+    const sym: MemberSymbol = { kind, name: name.name, nameSpan: name.span, system: sys, decl, target: undefined as unknown as Target };
+    sym.target = { kind: 'member', member: sym };
     sys.members.set(name.name, sym);
-    this.refs.push({ span: name.span, name: name.name, target: { kind: 'member', member: sym }, decl: true });
+    this.refs.push({ span: name.span, name: name.name, target: sym.target, decl: true });
   }
 
   // ---------- systems ----------
@@ -261,7 +277,7 @@ export class NameChecker {
         this.sink.error('LW201', m.target.span, `'${m.target.name}' is not declared in ${sys.name}; declare it with 'state ${m.target.name} [unit]'`);
         continue;
       }
-      this.refs.push({ span: m.target.span, name: m.target.name, target: { kind: 'member', member: sym } });
+      this.refs.push({ span: m.target.span, name: m.target.name, target: sym.target });
       if (sym.kind !== 'state') {
         this.sink.error('LW203', m.target.span, `'${m.target.name}' is a ${kindWord(sym.kind)}, not a state: only states have derivatives`);
         continue;
@@ -322,7 +338,7 @@ export class NameChecker {
         this.sink.error('LW201', id.span, `'${id.name}' is not declared in ${sys.name}; the ${what} needs ${want === 'output' ? 'an output' : 'an input'} here`);
         ok = false;
       } else {
-        this.refs.push({ span: id.span, name: id.name, target: { kind: 'member', member: sym } });
+        this.refs.push({ span: id.span, name: id.name, target: sym.target });
         if (sym.kind !== want) {
           this.sink.error('LW216', id.span, `'${id.name}' is a ${kindWord(sym.kind)}; the ${what} needs ${want === 'output' ? 'an output' : 'an input'} here`);
           ok = false;
@@ -371,7 +387,7 @@ export class NameChecker {
           const sym = sys.members.get(m.target.name);
           if (!sym) this.sink.error('LW201', m.target.span, `'${m.target.name}' is not declared in ${sys.name}`);
           else {
-            this.refs.push({ span: m.target.span, name: m.target.name, target: { kind: 'member', member: sym } });
+            this.refs.push({ span: m.target.span, name: m.target.name, target: sym.target });
             if (sym.kind !== 'input' && sym.kind !== 'output') {
               this.sink.error('LW219', m.target.span, `'${m.target.name}' is a ${kindWord(sym.kind)}; limits apply to inputs (as they enter) and outputs (as they leave)`);
             } else if (sys.limits.has(m.target.name)) {
@@ -405,7 +421,7 @@ export class NameChecker {
         this.sink.error('LW212', e.name.span, `'${e.name.name}' is not a state or input of ${sys.name}`);
         continue;
       }
-      this.refs.push({ span: e.name.span, name: e.name.name, target: { kind: 'member', member: sym } });
+      this.refs.push({ span: e.name.span, name: e.name.name, target: sym.target });
       if (sym.kind !== 'state' && sym.kind !== 'input') {
         this.sink.error('LW212', e.name.span, `'${e.name.name}' is a ${kindWord(sym.kind)}; an operating point gives values of states and inputs`);
         continue;
@@ -548,12 +564,12 @@ export class NameChecker {
       const sys = this.systems.get(u.system.name);
       if (!sys) this.sink.error('LW210', u.system.span, `there is no plant or controller named '${u.system.name}'`);
       else {
-        this.refs.push({ span: u.system.span, name: u.system.name, target: { kind: 'system', system: sys } });
+        this.refs.push({ span: u.system.span, name: u.system.name, target: sys.target });
         for (const o of u.overrides) {
           if (o.name.missing) continue;
           const p = sys.members.get(o.name.name);
           if (!p || p.kind !== 'param') this.sink.error('LW211', o.name.span, `${sys.name} has no param '${o.name.name}'`);
-          else this.refs.push({ span: o.name.span, name: o.name.name, target: { kind: 'member', member: p } });
+          else this.refs.push({ span: o.name.span, name: o.name.name, target: p.target });
           this.resolveExpr(o.value, narrow(NO_SCOPE, { loop, paramOnly: { before: Infinity } }));
         }
       }
@@ -719,7 +735,7 @@ export class NameChecker {
       return undefined;
     }
     const useDecl = loop.uses.get(head.name);
-    this.refs.push({ span: head.span, name: head.name, target: useDecl ? { kind: 'use', loop, decl: useDecl } : { kind: 'system', system: sys } });
+    this.refs.push({ span: head.span, name: head.name, target: useDecl ? { kind: 'use', loop, decl: useDecl } : sys.target });
     return this.resolveMemberPath(sys, path, what === 'arrow' ? 'LW211' : 'LW213');
   }
 
@@ -730,8 +746,8 @@ export class NameChecker {
       this.sink.error(code, second.span, `${sys.name} has no member '${second.name}'${suggest(second.name, [...sys.members.keys()])}`);
       return undefined;
     }
-    this.refs.push({ span: second.span, name: second.name, target: { kind: 'member', member: mem } });
-    if (path.length === 2) return { kind: 'member', member: mem };
+    this.refs.push({ span: second.span, name: second.name, target: mem.target });
+    if (path.length === 2) return mem.target;
     if (mem.kind !== 'operatingPoint' || path.length > 3) {
       this.sink.error(code, path[2].span, `'${path.slice(0, 2).map((p) => p.name).join('.')}' has no members: only operating points do (SYSTEM.POINT.NAME)`);
       return undefined;
@@ -742,7 +758,7 @@ export class NameChecker {
       this.sink.error('LW212', third.span, `operating point '${mem.name}' gives states and inputs; '${third.name}' is not one of ${sys.name}`);
       return undefined;
     }
-    this.refs.push({ span: third.span, name: third.name, target: { kind: 'member', member: val } });
+    this.refs.push({ span: third.span, name: third.name, target: val.target });
     return { kind: 'pointValue', point: mem, member: val };
   }
 
@@ -774,13 +790,13 @@ export class NameChecker {
     const name = x.name;
     const sys = scope.system;
     if (sys) {
-      if (name === 's' && scope.laplace) return this.bind(x, { kind: 'builtin', name: 's' });
+      if (name === 's' && scope.laplace) return this.bind(x, BUILTIN_TARGETS.s);
       const mem = sys.members.get(name);
       if (mem) {
         if (!this.allowedInScope(x, mem, scope)) return;
-        return this.bind(x, { kind: 'member', member: mem });
+        return this.bind(x, mem.target);
       }
-      if (name === 'pi') return this.bind(x, { kind: 'builtin', name: 'pi' });
+      if (name === 'pi') return this.bind(x, BUILTIN_TARGETS.pi);
       if (name === 's') {
         this.sink.error('LW208', x.span, "'s' (the Laplace variable) is only meaningful in a transfer relation 'OUT / IN = ...'");
         return;
@@ -809,9 +825,9 @@ export class NameChecker {
           this.sink.error('LW506', x.span, "a constant cannot depend on time 't'");
           return;
         }
-        return this.bind(x, { kind: 'builtin', name: 't' });
+        return this.bind(x, BUILTIN_TARGETS.t);
       }
-      if (name === 'pi') return this.bind(x, { kind: 'builtin', name: 'pi' });
+      if (name === 'pi') return this.bind(x, BUILTIN_TARGETS.pi);
       if (name === 's') {
         this.sink.error('LW208', x.span, "'s' (the Laplace variable) is only meaningful in a transfer relation inside a system");
         return;
@@ -891,8 +907,8 @@ export class NameChecker {
       this.sink.error('LW506', x.span, 'a constant cannot depend on a derivative');
       return;
     }
-    this.refs.push({ span: x.name.span, name: x.name.name, target: { kind: 'member', member: mem } });
-    this.resolved.set(x, { kind: 'member', member: mem });
+    this.refs.push({ span: x.name.span, name: x.name.name, target: mem.target });
+    this.resolved.set(x, mem.target);
   }
 
   private checkCall(x: A.CallExpr, scope: Scope): void {
@@ -905,7 +921,7 @@ export class NameChecker {
       this.sink.error('LW215', x.callee.span, why);
       return;
     }
-    this.refs.push({ span: x.callee.span, name, target: { kind: 'function', name } });
+    this.refs.push({ span: x.callee.span, name, target: functionTarget(name) });
     if (fn.place === 'loop' && !scope.loop) {
       this.sink.error('LW405', x.callee.span, `${name}(...) is a signal function: use it in a loop signal and feed the system an input`);
     } else if (fn.place === 'expect' && !scope.expect) {

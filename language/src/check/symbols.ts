@@ -32,6 +32,8 @@ export interface MemberSymbol {
   nameSpan: Span;
   system: SystemSymbol;
   decl: ParamDecl | LetDecl | StateDecl | InputDecl | OutputDecl | OperatingPointDecl;
+  /** This member as a name target: one object, shared by every use that resolves to it. */
+  target: Target;
 }
 
 /** Where an output's value comes from (exactly one of these, else a diagnostic). */
@@ -70,6 +72,8 @@ export interface SystemSymbol {
    * as many as its A matrix has rows.
    */
   linearUsesDeclaredStates: boolean;
+  /** This system as a name target: one object, shared by every use that resolves to it. */
+  target: Target;
 }
 
 export type LoopNameKind = 'signal' | 'loopParam' | 'use';

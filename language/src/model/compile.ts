@@ -84,7 +84,7 @@ function compileUncached(analysis: Analysis, loopName?: string): CompileResult {
     if (!symbols.resolved.has(t.expr) && t.expr.kind === 'member') {
       const inst = loop.instances.get(t.expr.path[0].name);
       const mem = inst?.system.members.get(t.expr.path[1].name);
-      if (mem) symbols.resolved.set(t.expr, { kind: 'member', member: mem });
+      if (mem) symbols.resolved.set(t.expr, mem.target);
     }
   }
   const quantities = (analysis.units as { quantities?: QuantityTable } | undefined)?.quantities;
