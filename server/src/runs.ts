@@ -8,7 +8,7 @@ import { Worker } from 'node:worker_threads';
 import { join } from 'node:path';
 import { existsSync } from 'node:fs';
 import { LSPErrorCodes, ResponseError, type CancellationToken } from 'vscode-languageserver/node';
-import type { LoopRunReport } from '../../language/src/protocol';
+import { RUN_WORKER_LIMITS, type LoopRunReport } from '../../language/src/protocol';
 import type { RunJob, WorkerMessage } from './worker-protocol';
 
 export interface ProgressSink {
@@ -26,7 +26,7 @@ export function runInWorker(job: RunJob, budgetMs: number, token: CancellationTo
   if (!existsSync(path)) return Promise.reject(new ResponseError(RunErrors.unavailable, `the run worker is missing (${path}); rebuild the extension`));
   return new Promise<LoopRunReport>((resolve, reject) => {
     let settled = false;
-    const worker = new Worker(path, { workerData: job });
+    const worker = new Worker(path, { workerData: job, resourceLimits: RUN_WORKER_LIMITS });
     const finish = (f: () => void) => {
       if (settled) return;
       settled = true;

@@ -36,11 +36,13 @@ export { runSpec } from './language/src/sim/sweep';
 export { createIntegrator } from './language/src/sim/solver';
 export { createRunPool, plainRun, runJob, runPool } from './language/src/sim/pool';
 export { compileForRun } from './language/src/runs';
+export { RUN_WORKER_LIMITS } from './language/src/protocol';
 export { rawMetrics, GL3_NODES, GL3_WEIGHTS } from './language/src/sim/metrics';
 `;
 await build({ stdin: { contents: entry, resolveDir: root, loader: 'ts' }, outfile: lib, bundle: true, platform: 'node', format: 'cjs', target: 'node20', logLevel: 'warning' });
 await build({ entryPoints: [join(root, 'language/src/sim/pool-worker.ts')], outfile: workerPath, bundle: true, platform: 'node', format: 'cjs', target: 'node20', logLevel: 'warning' });
 const L = require(lib);
+const { RUN_WORKER_LIMITS } = L;
 // local copies: a bundle's exports are getters, which would cost the hand-written side a call each
 const GL3_NODES = Float64Array.from(L.GL3_NODES), GL3_WEIGHTS = Float64Array.from(L.GL3_WEIGHTS);
 
@@ -398,7 +400,8 @@ parentPort.on('message', (m) => {
   parentPort.postMessage(kept.length);
 });
 parentPort.postMessage('ready');`;
-  const loopers = [new Worker(loopSrc, { eval: true }), new Worker(loopSrc, { eval: true })];
+  // with the run pool's heap limits, so that the reference differs from the pool only by its messages
+  const loopers = [new Worker(loopSrc, { eval: true, resourceLimits: RUN_WORKER_LIMITS }), new Worker(loopSrc, { eval: true, resourceLimits: RUN_WORKER_LIMITS })];
   await Promise.all(loopers.map((w) => new Promise((r) => w.once('message', r))));
   const ask = (w, m) => new Promise((r) => { w.once('message', r); w.postMessage(m); });
   const loopRate = async (k, n) => {

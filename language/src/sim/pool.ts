@@ -15,7 +15,7 @@
 import { Worker } from 'node:worker_threads';
 import { join } from 'node:path';
 import type { Compiled } from '../model/compile';
-import type { RunResult, SampledRun } from '../protocol';
+import { RUN_WORKER_LIMITS, type RunResult, type SampledRun } from '../protocol';
 import { failedRun, runOnce, type Cancellation, type RunOptions } from './run';
 import type { RunSpec } from './sweep';
 import { plainRun, unpackRuns, type PooledRun, type WireBatch } from './pool-wire';
@@ -170,7 +170,7 @@ export function createRunPool(o: { threads: number; workerPath?: string }): RunP
   const spawn = (index: number): Slot => {
     let worker: Worker;
     try {
-      worker = new Worker(path);
+      worker = new Worker(path, { resourceLimits: RUN_WORKER_LIMITS });
     } catch (e) {
       throw new Error(`run pool: worker ${index + 1} of ${threads} could not start from ${path}: ${(e as Error).message}`);
     }
