@@ -108,6 +108,8 @@ class RunDriver {
   readonly shownJ: Int32Array;
   private readonly shownScale: Float64Array;
   private readonly shownOffset: Float64Array;
+  /** Every shown signal is shown in SI (scale 1, offset 0): written as it is. */
+  private readonly plainShown: boolean;
   // Samples for the metrics, merged in time order as the run goes: every grid point and every
   // accepted step's end (a step end on a grid time is not repeated). `my` holds one row of
   // `mCap` per signal; both grow by doubling.
@@ -138,6 +140,7 @@ class RunDriver {
     this.shownJ = Int32Array.from(shown);
     this.shownScale = Float64Array.from(shown, (j) => c.traced[j].scale);
     this.shownOffset = Float64Array.from(shown, (j) => c.traced[j].offset);
+    this.plainShown = shown.every((j) => c.traced[j].offset === 0 && c.traced[j].scale === 1);
     this.pre = new Float64Array(nLim);
     this.lo = new Float64Array(nLim);
     this.hi = new Float64Array(nLim);
@@ -263,10 +266,17 @@ class RunDriver {
 
   /** Grid point i: into the merged samples and, in display units, into the result. */
   writeGrid(i: number, tr: Float64Array): void {
-    this.appendSample(this.gridT[i], tr);
+    if (this.nMerged === this.mCap) this.growSamples();
+    const m = this.nMerged++, cap = this.mCap, y = this.my, nTr = this.nTr;
+    this.mt[m] = this.gridT[i];
+    for (let j = 0, o = m; j < nTr; j++, o += cap) y[o] = tr[j];
     this.lastWasGrid = true;
-    const out = this.out, shownJ = this.shownJ, points = this.outPoints;
-    for (let r = 0, o = points + i; r < shownJ.length; r++, o += points) out[o] = (tr[shownJ[r]] - this.shownOffset[r]) / this.shownScale[r];
+    const out = this.out, shownJ = this.shownJ, points = this.outPoints, nShown = shownJ.length;
+    if (this.plainShown) for (let r = 0, o = points + i; r < nShown; r++, o += points) out[o] = tr[shownJ[r]];
+    else {
+      const off = this.shownOffset, scale = this.shownScale;
+      for (let r = 0, o = points + i; r < nShown; r++, o += points) out[o] = (tr[shownJ[r]] - off[r]) / scale[r];
+    }
   }
   private lastWasGrid = false;
 }
