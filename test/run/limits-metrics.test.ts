@@ -222,3 +222,34 @@ describe('recovery of a run whose states start at the operating point', () => {
     expect(recovers([0], [0], [2e-9], 1e-9)).toBe(false);
   });
 });
+
+describe('a signal shown twice under two names', () => {
+  // Boom.seen is Boom.tilt (the output equation is the state itself): the run keeps one row of
+  // samples for both, and both must still come out as the same samples, metrics and expects.
+  const twin = `plant Arm { param g = 9.80665 [m/s^2]
+  param len = 0.5 [m]
+  state tilt [rad]
+  state rate [rad/s]
+  input torque [N*m]
+  output seen [rad] = tilt
+  tilt' = rate
+  rate' = -g/len*sin(tilt) - 0.4 [1/s]*rate + torque / (0.2 [kg*m^2]) }
+loop Swing {
+  0 [N*m] -> Arm.torque
+  start Arm.tilt = 0.4 [rad]
+  simulate 10 [s] { points = 201 }
+  show Arm.tilt, Arm.seen, Arm.rate
+  expect settling(Arm.seen, 5 [%]) < 20 [s]
+  expect settling(Arm.tilt, 5 [%]) < 20 [s]
+}`;
+  it('gives the twin the same samples, metrics and measured expect values', () => {
+    const run = simulate(compile(twin))[0];
+    expect(run.error).toBeUndefined();
+    expect(run.signals['Arm.seen']).toEqual(run.signals['Arm.tilt']);
+    expect(run.metrics['Arm.seen']).toEqual(run.metrics['Arm.tilt']);
+    expect(run.expects.map((e) => e.measured)).toEqual([run.expects[1].measured, run.expects[0].measured]);
+    expect(run.expects.every((e) => e.pass)).toBe(true);
+    // and the rate, a signal of its own, is not the tilt
+    expect(run.signals['Arm.rate']).not.toEqual(run.signals['Arm.tilt']);
+  });
+});

@@ -112,7 +112,11 @@ class RunDriver {
   private readonly plainShown: boolean;
   // Samples for the metrics, merged in time order as the run goes: every grid point and every
   // accepted step's end (a step end on a grid time is not repeated). `my` holds one row of
-  // `mCap` per signal; both grow by doubling.
+  // `mCap` per distinct traced signal (a signal that repeats another, tracedSameAs, reads the
+  // row of the one it repeats); both grow by doubling.
+  /** Traced index of each row of `my`, and the row of each traced signal. */
+  readonly rowJ: Int32Array;
+  readonly rowOf: Int32Array;
   mt = new Float64Array(0);
   my = new Float64Array(0);
   mCap = 0;
@@ -136,6 +140,14 @@ class RunDriver {
     this.trOne = new Float64Array(nTr);
     this.iae = new Float64Array(nTr);
     this.off = Float64Array.from(c.traced, (tr) => tr.offset);
+    const rowJ: number[] = [];
+    this.rowOf = new Int32Array(nTr);
+    for (let j = 0; j < nTr; j++) {
+      const same = c.tracedSameAs[j] ?? j;
+      if (same === j || same < 0 || same >= j) this.rowOf[j] = rowJ.push(j) - 1;
+      else this.rowOf[j] = this.rowOf[same];
+    }
+    this.rowJ = Int32Array.from(rowJ);
     const shown = c.traced.flatMap((tr, j) => (tr.shown ? [j] : []));
     this.shownJ = Int32Array.from(shown);
     this.shownScale = Float64Array.from(shown, (j) => c.traced[j].scale);
@@ -234,16 +246,16 @@ class RunDriver {
     if (this.mCap < need) {
       this.mCap = need;
       this.mt = new Float64Array(need);
-      this.my = new Float64Array(need * this.nTr);
+      this.my = new Float64Array(need * this.rowJ.length);
     }
     this.nMerged = 0;
   }
 
   private growSamples(): void {
-    const nTr = this.nTr, cap = this.mCap, cap2 = 2 * cap;
-    const t2 = new Float64Array(cap2), y2 = new Float64Array(cap2 * nTr);
+    const rows = this.rowJ.length, cap = this.mCap, cap2 = 2 * cap;
+    const t2 = new Float64Array(cap2), y2 = new Float64Array(cap2 * rows);
     t2.set(this.mt);
-    for (let j = 0; j < nTr; j++) y2.set(this.my.subarray(j * cap, j * cap + cap), j * cap2);
+    for (let r = 0; r < rows; r++) y2.set(this.my.subarray(r * cap, r * cap + cap), r * cap2);
     this.mt = t2;
     this.my = y2;
     this.mCap = cap2;
@@ -251,9 +263,9 @@ class RunDriver {
 
   private appendSample(t: number, tr: Float64Array): void {
     if (this.nMerged === this.mCap) this.growSamples();
-    const m = this.nMerged++, cap = this.mCap, y = this.my;
+    const m = this.nMerged++, cap = this.mCap, y = this.my, rowJ = this.rowJ;
     this.mt[m] = t;
-    for (let j = 0, o = m; j < this.nTr; j++, o += cap) y[o] = tr[j];
+    for (let r = 0, o = m; r < rowJ.length; r++, o += cap) y[o] = tr[rowJ[r]];
   }
 
   /** A step end (or the values just after a breakpoint); skipped when a grid point has this time. */
@@ -267,9 +279,9 @@ class RunDriver {
   /** Grid point i: into the merged samples and, in display units, into the result. */
   writeGrid(i: number, tr: Float64Array): void {
     if (this.nMerged === this.mCap) this.growSamples();
-    const m = this.nMerged++, cap = this.mCap, y = this.my, nTr = this.nTr;
+    const m = this.nMerged++, cap = this.mCap, y = this.my, rowJ = this.rowJ;
     this.mt[m] = this.gridT[i];
-    for (let j = 0, o = m; j < nTr; j++, o += cap) y[o] = tr[j];
+    for (let r = 0, o = m; r < rowJ.length; r++, o += cap) y[o] = tr[rowJ[r]];
     this.lastWasGrid = true;
     const out = this.out, shownJ = this.shownJ, points = this.outPoints, nShown = shownJ.length;
     if (this.plainShown) for (let r = 0, o = points + i; r < nShown; r++, o += points) out[o] = tr[shownJ[r]];
@@ -900,7 +912,10 @@ function assemble(
   const duration = spec.duration;
   const mt = d.mt.subarray(0, nMerged);
   const my: Float64Array[] = [];
-  for (let j = 0; j < nTr; j++) my.push(d.my.subarray(j * d.mCap, j * d.mCap + nMerged));
+  for (let j = 0; j < nTr; j++) {
+    const o = d.rowOf[j] * d.mCap;
+    my.push(d.my.subarray(o, o + nMerged));
+  }
   // the grid and every shown signal were written in one buffer as the run went (writeGrid): a view each
   const buf = d.out;
   const t = buf.subarray(0, points);
