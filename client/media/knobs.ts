@@ -7,7 +7,10 @@
 // the text after it. The page therefore shifts its own copies of the spans by each edit's change
 // in length. A report's spans are adopted only once the report reflects the page's last edit (its
 // `text` of each edited param equals the last text posted) or after PENDING_MS without an edit,
-// so a report computed from an older document never puts a stale span under the next edit.
+// so a report computed from an older document never puts a stale span under the next edit. A
+// report held back for coming sooner than that is adopted when PENDING_MS have passed, unless a
+// newer report or edit came meanwhile (an undo in the editor brings back text the page never
+// posted: its report must still reach the knobs).
 
 import type { Span } from '../../language/src/diagnostics';
 import type { ParamKnob } from '../../language/src/protocol';
@@ -49,6 +52,9 @@ export class Knobs {
   private knobs: Knob[] = [];
   private readonly pending = new Map<string, string>();
   private lastEdit = 0;
+  /** A report held back by the pending edits, and the timer that adopts it later. */
+  private heldBack: ParamKnob[] | undefined;
+  private heldTimer: ReturnType<typeof setTimeout> | undefined;
   private readonly main: HTMLElement;
   private readonly plant: HTMLElement;
   private readonly plantToggle: HTMLButtonElement;
@@ -91,6 +97,9 @@ export class Knobs {
 
   /** Shows the params of a report; `sameLoop` keeps the knobs (and focus) where it can. */
   update(params: ParamKnob[], sameLoop: boolean): void {
+    this.heldBack = undefined;
+    if (this.heldTimer !== undefined) clearTimeout(this.heldTimer);
+    this.heldTimer = undefined;
     const sameSet = sameLoop && params.length === this.knobs.length && params.every((p, i) => p.name === this.knobs[i].p.name && p.owner === this.knobs[i].p.owner);
     if (!sameSet) {
       for (const k of this.knobs) cancelAnimationFrame(k.frame);
@@ -100,8 +109,18 @@ export class Knobs {
       this.plant.replaceChildren(...this.knobs.filter((k) => k.p.owner === 'plant').map((k) => k.row));
     } else {
       const current = [...this.pending].every(([name, text]) => params.find((p) => p.name === name)?.text === text);
-      const adopt = current || performance.now() - this.lastEdit > PENDING_MS;
+      const since = performance.now() - this.lastEdit;
+      const adopt = current || since > PENDING_MS;
       if (adopt) this.pending.clear();
+      else {
+        // adopted later if nothing newer comes (a later edit holds it back again)
+        this.heldBack = params;
+        this.heldTimer = setTimeout(() => {
+          const held = this.heldBack;
+          this.heldTimer = undefined;
+          if (held) this.update(held, true);
+        }, PENDING_MS - since + 50);
+      }
       params.forEach((p, i) => {
         const k = this.knobs[i];
         if (!adopt) return;

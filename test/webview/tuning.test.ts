@@ -119,6 +119,25 @@ group('knobs', { timeout: 180_000 }, () => {
     await clean();
   });
 
+  test('a report that does not show the last edit is held back, then adopted once the edit is 1.5 s old (an undo in the editor)', async () => {
+    const { page, clean } = await openPage();
+    await sendReport(page, tunedReport());
+    const slider = page.locator('.lw-knob[data-param="Steady.kp"] input[type=range]');
+    await slider.focus();
+    await page.keyboard.press('ArrowRight');
+    await expect.poll(async () => (await edits(page)).length).toBe(1);
+    const stepped = Number((await edits(page))[0].newText.split(' ')[0]);
+    const kpValue = async () => ((await describe(page)) as any).knobs.find((k: any) => k.name === 'Steady.kp').value;
+    expect(await kpValue()).toBeCloseTo(stepped, 9);
+    // the editor undid the edit at once: the report of the original text comes back, kp = 14;
+    // it does not show the page's last edit, so it is held back for now
+    await sendReport(page, tunedReport());
+    expect(await kpValue()).toBeCloseTo(stepped, 9);
+    // no further report comes; the held-back one is adopted after the pending time
+    await expect.poll(kpValue, { timeout: 5000, interval: 100 }).toBe(14);
+    await clean();
+  });
+
   test('a mouse drag posts non-final edits, then one final edit with the literal of the end position', async () => {
     const { page, clean } = await openPage();
     await sendReport(page, tunedReport());
