@@ -278,10 +278,7 @@ class RunDriver {
 
   /** Grid point i: into the merged samples and, in display units, into the result. */
   writeGrid(i: number, tr: Float64Array): void {
-    if (this.nMerged === this.mCap) this.growSamples();
-    const m = this.nMerged++, cap = this.mCap, y = this.my, rowJ = this.rowJ;
-    this.mt[m] = this.gridT[i];
-    for (let r = 0, o = m; r < rowJ.length; r++, o += cap) y[o] = tr[rowJ[r]];
+    this.appendSample(this.gridT[i], tr);
     this.lastWasGrid = true;
     const out = this.out, shownJ = this.shownJ, points = this.outPoints, nShown = shownJ.length;
     if (this.plainShown) for (let r = 0, o = points + i; r < nShown; r++, o += points) out[o] = tr[shownJ[r]];
