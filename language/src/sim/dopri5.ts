@@ -32,8 +32,8 @@ class Dopri5Core implements StepCore {
   private k: Float64Array[];
   private readonly xs: Float64Array;
   private readonly errv: Float64Array;
-  /** Dense-output coefficients r1..r5 of the last accepted step. */
-  private readonly r: Float64Array[];
+  /** Dense-output coefficients r1..r5 of the last accepted step, interleaved: r_k of component i at 5·i + k − 1. */
+  private readonly r: Float64Array;
   private tOld = 0;
   private hOld = 1;
   /** log of the last accepted step's error norm (floored): the PI controller's memory. */
@@ -46,7 +46,7 @@ class Dopri5Core implements StepCore {
     this.k = Array.from({ length: 7 }, () => new Float64Array(n));
     this.xs = new Float64Array(n);
     this.errv = new Float64Array(n);
-    this.r = Array.from({ length: 5 }, () => new Float64Array(n));
+    this.r = new Float64Array(5 * n);
   }
 
   start(t: number, x: Float64Array): SegmentFailure | null {
@@ -122,16 +122,15 @@ class Dopri5Core implements StepCore {
     const n = this.n;
     const k = this.k;
     const r = this.r;
-    const r1 = r[0], r2 = r[1], r3 = r[2], r4 = r[3], r5 = r[4];
     const k1 = k[0], k3 = k[2], k4 = k[3], k5 = k[4], k6 = k[5], k7 = k[6];
-    for (let i = 0; i < n; i++) {
+    for (let i = 0, o = 0; i < n; i++, o += 5) {
       const ydiff = xNew[i] - x[i];
       const bspl = h * k1[i] - ydiff;
-      r1[i] = x[i];
-      r2[i] = ydiff;
-      r3[i] = bspl;
-      r4[i] = ydiff - h * k7[i] - bspl;
-      r5[i] = h * (D1 * k1[i] + D3 * k3[i] + D4 * k4[i] + D5 * k5[i] + D6 * k6[i] + D7 * k7[i]);
+      r[o] = x[i];
+      r[o + 1] = ydiff;
+      r[o + 2] = bspl;
+      r[o + 3] = ydiff - h * k7[i] - bspl;
+      r[o + 4] = h * (D1 * k1[i] + D3 * k3[i] + D4 * k4[i] + D5 * k5[i] + D6 * k6[i] + D7 * k7[i]);
     }
     this.tOld = t;
     this.hOld = h;
@@ -143,9 +142,8 @@ class Dopri5Core implements StepCore {
   dense(tq: number, out: Float64Array): void {
     const th = (tq - this.tOld) / this.hOld;
     const th1 = 1 - th;
-    const r = this.r;
-    const r1 = r[0], r2 = r[1], r3 = r[2], r4 = r[3], r5 = r[4];
-    for (let i = 0; i < this.n; i++) out[i] = r1[i] + th * (r2[i] + th1 * (r3[i] + th * (r4[i] + th1 * r5[i])));
+    const r = this.r, n = this.n;
+    for (let i = 0, o = 0; i < n; i++, o += 5) out[i] = r[o] + th * (r[o + 1] + th1 * (r[o + 2] + th * (r[o + 3] + th1 * r[o + 4])));
   }
 
   worst(x: Float64Array, xNew: Float64Array): number {
