@@ -39,10 +39,6 @@ interface Scope {
   optionWords?: readonly string[];
 }
 
-/**
- * A scope with some fields replaced. Every scope has all fields, in one order, so the name
- * lookups that read them stay fast (a spread would give each combination its own shape).
- */
 /** Targets with no symbol behind them, one object each, shared by every use. */
 const BUILTIN_TARGETS = {
   pi: Object.freeze({ kind: 'builtin', name: 'pi' }),
@@ -57,6 +53,10 @@ function functionTarget(name: string): Target {
 }
 
 const NO_SCOPE: Scope = {};
+/**
+ * A scope with some fields replaced. Every scope has all fields, in one order, so the name
+ * lookups that read them stay fast (a spread would give each combination its own shape).
+ */
 function narrow(scope: Scope, o: Scope): Scope {
   return {
     system: o.system ?? scope.system,

@@ -1011,7 +1011,7 @@ export class LoopParser extends EmbeddedActionsParser {
         },
       ]));
     },
-    (f, span): Operand | unknown => {
+    (f, span): unknown => {
       const p0 = f.p0 as number | undefined;
       const pfx = f.pfx as IToken[] | undefined;
       // the primary's own span: from its first token (prefix operators left out) to the end

@@ -123,34 +123,27 @@ const unitResult = [''] as unknown as RegExpExecArray;
 export const NUMBER_PATTERN = /(?:\d+(?:\.\d+)?|\.\d+)(?:[eE][+-]?\d+|[eE][+-](?!\d)|[eE](?![A-Za-z0-9_]))?/y;
 const isDigit = (c: number): boolean => c >= 48 && c <= 57;
 const isWordChar = (c: number): boolean => isDigit(c) || (c >= 65 && c <= 90) || (c >= 97 && c <= 122) || c === 95;
+/** The index after the digits from `i` on. */
+function skipDigits(text: string, i: number, n: number): number {
+  while (i < n && isDigit(text.charCodeAt(i))) i++;
+  return i;
+}
 /** NUMBER_PATTERN at `offset`, read by character code (one result array serves, as for names). */
 export function matchNumber(text: string, offset: number): RegExpExecArray | null {
   const n = text.length;
   let i = offset;
-  const digits = (): void => {
-    while (i < n && isDigit(text.charCodeAt(i))) i++;
-  };
   if (i < n && isDigit(text.charCodeAt(i))) {
-    digits();
-    if (i + 1 < n && text.charCodeAt(i) === 46 && isDigit(text.charCodeAt(i + 1))) {
-      i += 2;
-      digits();
-    }
-  } else if (i + 1 < n && text.charCodeAt(i) === 46 && isDigit(text.charCodeAt(i + 1))) {
-    i += 2;
-    digits();
-  } else return null;
+    i = skipDigits(text, i, n);
+    if (i + 1 < n && text.charCodeAt(i) === 46 && isDigit(text.charCodeAt(i + 1))) i = skipDigits(text, i + 2, n);
+  } else if (i + 1 < n && text.charCodeAt(i) === 46 && isDigit(text.charCodeAt(i + 1))) i = skipDigits(text, i + 2, n);
+  else return null;
   const e = i < n ? text.charCodeAt(i) : -1;
   if (e === 101 || e === 69) {
     const j = i + 1;
     const c = j < n ? text.charCodeAt(j) : -1;
-    if (c === 43 || c === 45) {
-      i = j + 1; // a sign: its digits if any (else the number is reported, LW105)
-      digits();
-    } else if (isDigit(c)) {
-      i = j;
-      digits();
-    } else if (!isWordChar(c)) i = j; // `1e` alone (LW105); `1else` is a number and a keyword
+    if (c === 43 || c === 45) i = skipDigits(text, j + 1, n); // a sign: its digits if any (else the number is reported, LW105)
+    else if (isDigit(c)) i = skipDigits(text, j, n);
+    else if (!isWordChar(c)) i = j; // `1e` alone (LW105); `1else` is a number and a keyword
   }
   numberResult[0] = text.slice(offset, i);
   return numberResult;
