@@ -77,7 +77,7 @@ export const EXAMPLES: Record<string, CodeExample> = {
   LW305: f(`plant P {\n  param n = 2 [m]\n  param a = 3 ^ n\n}`, 'An exponent must be a dimensionless constant.'),
   LW306: f(`controller C {\n  input e [1]\n  output y [1]\n  y / e = 1 / (1 + s / 10 [Hz])\n}`, 'Hz counts cycles: write 2*pi*10 [rad/s] for 10 Hz as an angular frequency.'),
   LW307: f(`plant P {\n  param a = 20 [degC] + 30 [degC]\n}`, 'Adding absolute temperatures is rarely meant; a difference is in K.'),
-  LW308: f(`plant P {\n  state x [m]\n  x' = 2\n}`, 'Give the number its unit: 2 [m/s].'),
+  LW308: f(`plant P {\n  state x [m]\n  x' = 2\n}`, 'Give the number its unit: 2 [m/s]. A bare number is read in SI, so a bare 0 fits every unit but one with an offset: for a degC value it is 0 K, absolute zero, and gets this warning too (write 0 [degC]).'),
   LW309: f(`controller C {\n  input e [1]\n  output y [1]\n  linear { A = [[1, 0]], B = [[1]], C = [[1]] }\n}`, 'A is n×n for n states, B n×inputs, C outputs×n, D outputs×inputs.'),
   LW310: f(`plant P {\n  state x [m]\n  x' = if x then 1 [m/s] else 0 [m/s]\n}`, 'A condition is a comparison (or and/or/not of comparisons).'),
   LW311: t(`(reported on a member whose unit check failed inside the tool)`, 'The rest of the file is still checked; please report the file.'),

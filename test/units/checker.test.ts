@@ -124,6 +124,32 @@ describe('unit diagnostics, one per code, with exact ranges', () => {
     expect(run.units).toEqual([]);
   });
 
+  // A bare number is read in SI (LANGUAGE.md §3), so a bare 0 for a degC value is 0 K, absolute
+  // zero: 0 degC = 273.15 K (SI Brochure, 9th ed., §2.3.4 [memory]).
+  it('LW308 bare 0 for a degC value in an operating point: it would be 0 K', () => {
+    const { d, spans } = only(plant(`  state T [degC]\n  input q [W]\n  T' = q / 1 [J/K]\n  operating point p { T = ⟦0⟧, q = 0 }`), 'LW308');
+    expect(d.span).toEqual(spans[0]);
+    expect(d.severity).toBe('warning');
+    expect(d.message).toBe('a bare 0 is read in SI, as 0 K (absolute zero), but T at p is declared in degC: write [degC] if you mean 0 degC');
+    expect(d.fixes).toEqual([{ title: 'Add unit [degC]', edits: [{ span: { start: spans[0].end, end: spans[0].end }, newText: ' [degC]' }], preferred: true }]);
+  });
+
+  it('LW308 bare 0 compared with, or chosen instead of, a degC value', () => {
+    const cmp = only(plant(`  state T [degC]\n  input q [W]\n  output y [1] = if T > ⟦0⟧ then 1 else 0\n  T' = q / 1 [J/K]`), 'LW308');
+    expect(cmp.d.span).toEqual(cmp.spans[0]);
+    expect(cmp.d.message).toContain("'>' compares it with an absolute temperature");
+    const branch = only(plant(`  state T [degC]\n  input q [W]\n  output y [degC] = if q > 0 then T else ⟦0⟧\n  T' = q / 1 [J/K]`), 'LW308');
+    expect(branch.d.span).toEqual(branch.spans[0]);
+    const clamp = only(plant(`  state T [degC]\n  input q [W]\n  output y [degC] = max(T, ⟦0⟧)\n  T' = q / 1 [J/K]`), 'LW308');
+    expect(clamp.d.span).toEqual(clamp.spans[0]);
+  });
+
+  it('LW308 not raised for a bare 0 added to a degC value, or for kelvin', () => {
+    // adding 0 changes nothing in any unit; 0 K is what a bare 0 means for a kelvin value
+    expect(runUnits(plant(`  state T [degC]\n  input q [W]\n  output y [degC] = T - 0\n  T' = q / 1 [J/K]`)).units).toEqual([]);
+    expect(runUnits(plant(`  state T [K]\n  input q [W]\n  T' = q / 1 [J/K]\n  operating point p { T = 0, q = 0 }`)).units).toEqual([]);
+  });
+
   it('LW309 matrix of the wrong size: names the matrix, its size and the expected size', () => {
     const src = plant(`  state a [m]\n  state b [m/s]\n  input f [N]\n  output y [m]\n  linear { A = ⟦[[0, 1], [0, 0], [1, 1]]⟧, B = [[0], [1]], C = [[1, 0]], D = [[0]] }`);
     const { d, spans } = only(src, 'LW309');

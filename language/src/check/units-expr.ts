@@ -378,11 +378,11 @@ export class Inference {
     if (!l || !r) return undefined;
     if (dimEq(l.dim, r.dim)) return { ...l, factors: l.bare && !r.bare ? r.factors : l.factors, bare: l.bare && r.bare, cycle: l.cycle ?? r.cycle, cycleKey: l.cycle ? l.cycleKey : r.cycleKey, sDep: l.sDep || r.sDep };
     if (l.bare && !r.bare) {
-      this.bareWarn(le, l, r, `${otherSide} is`);
+      this.bareWarn(le, l, r, `${otherSide} is`, noun !== 'term');
       return r;
     }
     if (r.bare && !l.bare) {
-      this.bareWarn(re, r, l, `${otherSide} is`);
+      this.bareWarn(re, r, l, `${otherSide} is`, noun !== 'term');
       return l;
     }
     if (want && dimEq(l.dim, want.dim)) {
@@ -399,12 +399,28 @@ export class Inference {
     return undefined;
   }
 
-  /** LW308 on a bare number that should carry the unit of `other`. Zero fits every unit. */
-  private bareWarn(e: Expr, q: Q, other: Q, why: string): void {
-    if (q.constant === 0) return;
+  /**
+   * LW308 on a bare number that should carry the unit of `other`. Zero fits every unit but one
+   * with an offset: compared with, or chosen instead of, a degC value it is 0 K. Added to one it
+   * changes nothing, so a sum term (`level`: false) is left alone.
+   */
+  private bareWarn(e: Expr, q: Q, other: Q, why: string, level = true): void {
+    if (q.constant === 0) {
+      if (level && other.absTemp === 'offset') this.zeroInOffsetUnit(e, q, factorsText(other.factors, other.dim), `${why} an absolute temperature`);
+      return;
+    }
     const text = factorsText(other.factors, other.dim);
     const fixes = q.bareAt ? [insertUnit(q.bareAt, text, true)] : [];
     this.report('LW308', e.span, `a bare number is dimensionless, but ${why} ${describe(other.factors, other.dim)}: write the unit, e.g. [${text}]`, { fixes });
+  }
+
+  /**
+   * LW308 on a bare 0 where a unit with an offset (degC) is meant: a bare number is read in SI,
+   * so this 0 is 0 K, absolute zero, not the zero of the offset unit.
+   */
+  private zeroInOffsetUnit(e: Expr, q: Q, unitText: string, why: string): void {
+    const fixes = q.bareAt ? [insertUnit(q.bareAt, unitText, true)] : [];
+    this.report('LW308', e.span, `a bare 0 is read in SI, as 0 K (absolute zero), but ${why}: write [${unitText}] if you mean 0 ${unitText}`, { fixes });
   }
 
   /** LW306 once per use of a Hz-counted value. */
@@ -451,7 +467,10 @@ export class Inference {
   private mismatch(e: Expr, q: Q, want: Want, noun: string): void {
     const wanted = describe(want.factors, want.dim);
     if (q.bare) {
-      if (q.constant === 0) return;
+      if (q.constant === 0) {
+        if (want.unit && want.unit.offset !== 0) this.zeroInOffsetUnit(e, q, want.unit.text, `${want.what} is declared in ${want.unit.text}`);
+        return;
+      }
       const text = factorsText(want.factors, want.dim);
       const units = [text, ...(want.bareUnits ?? []).filter((x) => x !== text)];
       const fixes = q.bareAt ? units.map((t, i) => insertUnit(q.bareAt!, t, i === 0)) : [];
