@@ -7,6 +7,7 @@ import { describe, expect, it } from 'vitest';
 import { analyze } from '../../language/src/analysis';
 import { CODES } from '../../language/src/check/codes';
 import { checkOperatingPoints } from '../../language/src/linear/equilibrium';
+import { checkLoopStability } from '../../language/src/linear/stability';
 import { compileAnalysis } from '../../language/src/model/compile';
 import { EXAMPLES } from './diagnostic-examples';
 import { renderDiagnosticsDoc } from './render-diagnostics';
@@ -38,9 +39,9 @@ describe('docs/diagnostics.md', () => {
       const a = analyze(ex.body);
       const codes = new Set(a.diagnostics.map((d) => d.code));
       for (const d of compileAnalysis(a).diagnostics) codes.add(d.code);
-      for (const d of checkOperatingPoints(a)) codes.add(d.code);
+      for (const d of [...checkOperatingPoints(a), ...checkLoopStability(a)]) codes.add(d.code);
       expect([...codes]).toContain(code);
-      expect(CODES.get(code)!.severity).toBe([...a.sink.items, ...checkOperatingPoints(a)].find((d) => d.code === code)?.severity ?? CODES.get(code)!.severity);
+      expect(CODES.get(code)!.severity).toBe([...a.sink.items, ...checkOperatingPoints(a), ...checkLoopStability(a)].find((d) => d.code === code)?.severity ?? CODES.get(code)!.severity);
     });
   }
 });

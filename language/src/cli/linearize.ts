@@ -6,6 +6,7 @@
 
 import { analyze, type Analysis } from '../analysis';
 import { checkOperatingPoints } from '../linear/equilibrium';
+import { checkLoopStability } from '../linear/stability';
 import { linearizeLoop, linearizeSystem, type Linearization, type LoopLinearization, type SystemLinearization, type VarEntry } from '../linear/linearize';
 import type { Mat } from '../linear/dense';
 import { diagnosticLine, locate, num, table } from './format';
@@ -111,7 +112,7 @@ function loopText(lin: LoopLinearization): string {
 const json = (v: unknown): string => JSON.stringify(v, (_k, x) => (typeof x === 'number' && !Number.isFinite(x) ? null : x), 2);
 
 function report(io: CliIO, file: string, a: Analysis): boolean {
-  const diags = [...a.diagnostics, ...checkOperatingPoints(a)];
+  const diags = [...a.diagnostics, ...checkOperatingPoints(a), ...checkLoopStability(a)];
   for (const d of locate(file, a.text, diags)) io.err(diagnosticLine(d));
   return diags.some((d) => d.severity === 'error');
 }

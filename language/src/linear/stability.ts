@@ -1,0 +1,55 @@
+// LW604: a loop whose closed loop, linearized at its operating point (`around`), has a pole right
+// of the imaginary axis. Small motions about that point grow, so the nonlinear loop cannot settle
+// there either: the warning goes on the `around` member (else the loop's name) and names the
+// poles, in rad/s as a linearization shows them.
+//
+// A loop with an error inside it, or one that cannot be linearized, is skipped: the linearization
+// itself says why when asked. A pole counts as unstable as it does in the linearization (real part
+// above 1e-9 of the matrix's size, poles.ts); a pole on the axis is not warned about.
+//
+// API
+//   checkLoopStability(analysis) → Diagnostic[]
+
+import type { Analysis } from '../analysis';
+import type { Diagnostic } from '../diagnostics';
+import { norm1 } from './dense';
+import { linearizeLoop } from './linearize';
+import type { PoleInfo } from '../protocol';
+
+const fmt = (v: number): string => {
+  const r = Number(v.toPrecision(3));
+  return Object.is(r, -0) ? '0' : String(r);
+};
+
+/** `2.5`, `0.3 ± 1.2j` (one entry per conjugate pair). */
+function poleText(p: PoleInfo): string {
+  return Math.abs(p.im) > 0 ? `${fmt(p.re)} ± ${fmt(Math.abs(p.im))}j` : fmt(p.re);
+}
+
+/** LW604 on every loop whose linearized closed loop is unstable. Never throws. */
+export function checkLoopStability(analysis: Analysis): Diagnostic[] {
+  const out: Diagnostic[] = [];
+  for (const loop of analysis.symbols.loops.values()) {
+    const span = loop.block.span;
+    if (analysis.diagnostics.some((d) => d.severity === 'error' && d.span.start < span.end && d.span.end > span.start)) continue;
+    const around = loop.block.members.find((m) => m.kind === 'around');
+    try {
+      const lin = linearizeLoop(analysis, loop.name);
+      if (!lin.ok || lin.unstable === 0) continue;
+      const tol = 1e-9 * Math.max(1, norm1(lin.si.A)); // as polesOf counts them
+      const right = lin.poles.filter((p) => p.re > tol && p.im >= 0);
+      if (right.length === 0) continue;
+      const at = around ? `at ${around.target.map((t) => t.name).join('.')}` : 'at zero states and inputs';
+      const n = lin.unstable;
+      out.push({
+        code: 'LW604',
+        severity: 'warning',
+        span: around ? around.span : loop.nameSpan,
+        message: `the closed loop ${loop.name}, linearized ${at}, is unstable: ${n === 1 ? 'a pole' : `${n} poles`} right of the imaginary axis (${right.map(poleText).join(', ')} rad/s); small motions about this point grow`,
+      });
+    } catch (err) {
+      out.push({ code: 'LW604', severity: 'warning', span: loop.nameSpan, message: `the stability of ${loop.name} could not be checked (internal error, please report): ${(err as Error).message}` });
+    }
+  }
+  return out;
+}
