@@ -12,8 +12,8 @@
 
 import type { Analysis } from '../analysis';
 import type { Diagnostic } from '../diagnostics';
-import { norm1 } from './dense';
-import { linearizeLoop } from './linearize';
+import { loopLinear } from './loop-linear';
+import { polesOf } from './poles';
 import type { PoleInfo } from '../protocol';
 
 const fmt = (v: number): string => {
@@ -34,13 +34,15 @@ export function checkLoopStability(analysis: Analysis): Diagnostic[] {
     if (analysis.diagnostics.some((d) => d.severity === 'error' && d.span.start < span.end && d.span.end > span.start)) continue;
     const around = loop.block.members.find((m) => m.kind === 'around');
     try {
-      const lin = linearizeLoop(analysis, loop.name);
-      if (!lin.ok || lin.unstable === 0) continue;
-      const tol = 1e-9 * Math.max(1, norm1(lin.si.A)); // as polesOf counts them
-      const right = lin.poles.filter((p) => p.re > tol && p.im >= 0);
+      // the closed loop's poles only (the margins of a full linearization are not needed here)
+      const lin = loopLinear(analysis, loop.name);
+      if (!lin.ok) continue;
+      const pr = polesOf(lin.closed.A);
+      if (!pr.ok || pr.unstableCount === 0) continue;
+      const right = pr.poles.filter((p) => p.re > pr.tolerance && p.im >= 0);
       if (right.length === 0) continue;
       const at = around ? `at ${around.target.map((t) => t.name).join('.')}` : 'at zero states and inputs';
-      const n = lin.unstable;
+      const n = pr.unstableCount;
       out.push({
         code: 'LW604',
         severity: 'warning',
