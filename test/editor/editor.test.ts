@@ -140,6 +140,18 @@ describe('Loopwright in the workbench', () => {
     await dismissHover(page);
   });
 
+  needsServer('warns on the around member of a loop that is unstable about its operating point', async () => {
+    await step('unstable-loop', async () => {
+      await openFile(page, 'boom-weak-gain.loop', 'plant');
+      const squiggle = activeEditor(page).locator('.squiggly-warning').first();
+      await squiggle.waitFor({ timeout: 60_000 });
+      const text = await hoverText(page, squiggle);
+      expect(text).toMatch(/is unstable: a pole right of the imaginary axis/);
+      expect(text).toMatch(/LW604/);
+    });
+    await dismissHover(page);
+  });
+
   needsServer('hovers the plant name with its A matrix and poles', async () => {
     await step('plant-hover', async () => {
       await openFile(page, 'boom.loop', 'plant');

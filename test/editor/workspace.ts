@@ -10,6 +10,8 @@ export interface TestWorkspace {
   boomFromSamples: boolean;
   /** A copy of boom.loop with one unit error: the plant output declared in metres. */
   unitError: string;
+  /** A copy of boom.loop whose proportional gain (3 N·m/rad) is below the boom's gravity stiffness: LW604. */
+  weakGain: string;
   /** An empty .loop file for typing. */
   scratch: string;
   copied: string[];
@@ -50,9 +52,13 @@ export function makeWorkspace(root: string, fixtures: string): TestWorkspace {
   if (!broken) throw new Error('no output declared in [rad] to turn into a unit error');
   const unitError = join(dir, 'boom-unit-error.loop');
   writeFileSync(unitError, broken);
+  const weakText = readFileSync(boom, 'utf8').replace(/param kp\s*=\s*[0-9.]+ \[N\*m\/rad\]/, 'param kp = 3 [N*m/rad]');
+  if (!weakText.includes('param kp = 3 [N*m/rad]')) throw new Error('no param kp in [N*m/rad] to weaken');
+  const weakGain = join(dir, 'boom-weak-gain.loop');
+  writeFileSync(weakGain, weakText);
   const scratch = join(dir, 'scratch.loop');
   writeFileSync(scratch, '');
-  return { dir, boom, boomFromSamples, unitError, scratch, copied };
+  return { dir, boom, boomFromSamples, unitError, weakGain, scratch, copied };
 }
 
 /** Tokens of a .loop text whose colours the grammar step compares. */
