@@ -59,6 +59,13 @@ describe('LW604 closed loop unstable at the operating point', () => {
     expect(weak[0].message).toMatch(/a pole right of the imaginary axis \(0\.939 rad\/s\)/);
   });
 
+  it('without around: the warning goes on the loop name and says which point was used', () => {
+    const text = tank(2, 1).replace('  around Tank.rest\n', '');
+    const d = checkLoopStability(analyze(text));
+    expect(d.map((x) => text.slice(x.span.start, x.span.end))).toEqual(['Hold']);
+    expect(d[0].message).toContain("linearized at its plants' first operating points, is unstable");
+  });
+
   it('a loop with an error in it is skipped, and no sample is warned about', () => {
     expect(checkLoopStability(analyze(tank(2, 1).replace('simulate 1 [s]', 'simulate 1 [s]\n  show Nowhere.x')))).toEqual([]);
     for (const f of readdirSync('samples').filter((n) => n.endsWith('.loop'))) {

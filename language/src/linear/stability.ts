@@ -41,7 +41,8 @@ export function checkLoopStability(analysis: Analysis): Diagnostic[] {
       if (!pr.ok || pr.unstableCount === 0) continue;
       const right = pr.poles.filter((p) => p.re > pr.tolerance && p.im >= 0);
       if (right.length === 0) continue;
-      const at = around ? `at ${around.target.map((t) => t.name).join('.')}` : 'at zero states and inputs';
+      // without `around`: each plant's first operating point, zero for a plant without one (loop-linear.ts)
+      const at = around ? `at ${around.target.map((t) => t.name).join('.')}` : "at its plants' first operating points";
       const n = pr.unstableCount;
       out.push({
         code: 'LW604',
