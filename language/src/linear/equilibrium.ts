@@ -66,7 +66,8 @@ function blockSpan(sym: SystemSymbol): Span {
   return { start: b.keywordSpan.start, end: b.bodySpan.end + 1 };
 }
 
-function hasErrorInside(analysis: Analysis, span: Span): boolean {
+/** An error diagnostic within the span (its values cannot be trusted). */
+export function hasErrorInside(analysis: Analysis, span: Span): boolean {
   return analysis.diagnostics.some((d) => d.severity === 'error' && d.span.start >= span.start && d.span.end <= span.end);
 }
 

@@ -12,26 +12,22 @@
 
 import type { Analysis } from '../analysis';
 import type { Diagnostic } from '../diagnostics';
+import { hasErrorInside } from './equilibrium';
 import { loopLinear } from './loop-linear';
 import { polesOf } from './poles';
 import type { PoleInfo } from '../protocol';
+import { num } from '../cli/format';
 
-const fmt = (v: number): string => {
-  const r = Number(v.toPrecision(3));
-  return Object.is(r, -0) ? '0' : String(r);
-};
-
-/** `2.5`, `0.3 ± 1.2j` (one entry per conjugate pair). */
+/** `2.5`, `0.3 ± 1.2j` (one entry per conjugate pair), three significant digits. */
 function poleText(p: PoleInfo): string {
-  return Math.abs(p.im) > 0 ? `${fmt(p.re)} ± ${fmt(Math.abs(p.im))}j` : fmt(p.re);
+  return Math.abs(p.im) > 0 ? `${num(p.re, 3)} ± ${num(Math.abs(p.im), 3)}j` : num(p.re, 3);
 }
 
 /** LW604 on every loop whose linearized closed loop is unstable. Never throws. */
 export function checkLoopStability(analysis: Analysis): Diagnostic[] {
   const out: Diagnostic[] = [];
   for (const loop of analysis.symbols.loops.values()) {
-    const span = loop.block.span;
-    if (analysis.diagnostics.some((d) => d.severity === 'error' && d.span.start < span.end && d.span.end > span.start)) continue;
+    if (hasErrorInside(analysis, loop.block.span)) continue;
     const around = loop.block.members.find((m) => m.kind === 'around');
     try {
       // the closed loop's poles only (the margins of a full linearization are not needed here)
