@@ -2,7 +2,9 @@
 // document. Edits are applied one after another in the order they arrived (the page has already
 // shifted each span by the edits before it). A drag is one undo step: its edits go through the
 // visible editor of the document with no undo stop between them, and the final one closes the
-// step (tuning.ts UndoGroups). Without a visible editor an edit is a plain WorkspaceEdit.
+// step (tuning.ts UndoGroups). Without a visible editor an edit is a plain WorkspaceEdit. When the
+// document changes between two edits of a drag (an undo, typing), the rest of the drag is dropped:
+// the user's own change is never written over by a late frame of the drag.
 import * as vscode from 'vscode';
 import type { Span } from '../../language/src/diagnostics';
 import { panelKey, type ReportPanel } from './panel';
@@ -36,6 +38,13 @@ export class KnobEditor {
       return;
     }
     const document = await vscode.workspace.openTextDocument(panel.documentUri);
+    if (this.groups.changedUnder(key, document.version)) {
+      // an undo or a typed edit came between two edits of this drag: the user's change wins
+      this.groups.close(key);
+      if (!edit.final) this.refused.add(key);
+      this.log(`A knob drag of ${panel.id.loop} ended early: the document changed during the drag, so the rest of the drag was not applied.`);
+      return;
+    }
     const why = refuseKnobEdit(document.getText(), edit.span, edit.newText);
     if (why) {
       this.groups.close(key);
@@ -45,10 +54,14 @@ export class KnobEditor {
     const range = new vscode.Range(document.positionAt(edit.span.start), document.positionAt(edit.span.end));
     const stops = this.groups.next(key, edit.final);
     const editor = vscode.window.visibleTextEditors.find((e) => e.document.uri.toString() === document.uri.toString());
-    if (editor && (await editor.edit((b) => b.replace(range, edit.newText), stops))) return;
+    if (editor && (await editor.edit((b) => b.replace(range, edit.newText), stops))) {
+      this.groups.landed(key, document.version);
+      return;
+    }
     if (editor) this.log(`A knob edit of ${panel.id.loop} went through a workspace edit (the editor refused it).`);
     const change = new vscode.WorkspaceEdit();
     change.replace(document.uri, range, edit.newText);
     if (!(await vscode.workspace.applyEdit(change))) throw new Error(`could not change ${vscode.workspace.asRelativePath(document.uri)}`);
+    this.groups.landed(key, document.version);
   }
 }

@@ -41,11 +41,13 @@ export interface UndoStops {
  */
 export class UndoGroups {
   private readonly open = new Set<string>();
+  /** The document version each open group's last edit left. */
+  private readonly versions = new Map<string, number>();
 
   /** The stops for the next edit of knob group `key` (one per panel). */
   next(key: string, final: boolean): UndoStops {
     const before = !this.open.has(key);
-    if (final) this.open.delete(key);
+    if (final) this.close(key);
     else this.open.add(key);
     return { undoStopBefore: before, undoStopAfter: final };
   }
@@ -54,9 +56,25 @@ export class UndoGroups {
     return this.open.has(key);
   }
 
-  /** Ends a group without a final edit (the panel closed mid-drag). */
+  /** Records the document version an edit of group `key` left (kept only while the group is open). */
+  landed(key: string, version: number): void {
+    if (this.open.has(key)) this.versions.set(key, version);
+  }
+
+  /**
+   * True when group `key` is open and the document is no longer at the version its last edit
+   * left: something else changed the text during the drag (an undo, typing). The rest of the
+   * drag must not be applied, or it would write the dragged value back over the user's undo.
+   */
+  changedUnder(key: string, version: number): boolean {
+    const v = this.versions.get(key);
+    return this.open.has(key) && v !== undefined && v !== version;
+  }
+
+  /** Ends a group without a final edit (the panel closed mid-drag, the text changed under it). */
   close(key: string): void {
     this.open.delete(key);
+    this.versions.delete(key);
   }
 }
 

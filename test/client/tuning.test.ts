@@ -41,6 +41,30 @@ describe('knob edits', () => {
     g.close('a');
     expect(g.next('a', false).undoStopBefore).toBe(true);
   });
+
+  it('a drag whose document changed between two of its edits (an undo, typing) is seen as changed under it', () => {
+    const g = new UndoGroups();
+    // no edit has landed yet: nothing to compare with
+    g.next('a', false);
+    expect(g.changedUnder('a', 7)).toBe(false);
+    g.landed('a', 8);
+    expect(g.changedUnder('a', 8)).toBe(false);
+    g.next('a', false);
+    g.landed('a', 9);
+    // the user pressed Ctrl+Z: the version moved on without an edit of the drag
+    expect(g.changedUnder('a', 10)).toBe(true);
+    // other panels are not affected
+    g.next('b', false);
+    g.landed('b', 3);
+    expect(g.changedUnder('b', 3)).toBe(false);
+    // once closed (or finished), a group compares nothing
+    g.close('a');
+    expect(g.changedUnder('a', 10)).toBe(false);
+    g.next('b', true);
+    g.landed('b', 4);
+    expect(g.changedUnder('b', 99)).toBe(false);
+    expect(g.isOpen('b')).toBe(false);
+  });
 });
 
 describe('live pushes from the server', () => {
