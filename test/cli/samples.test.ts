@@ -26,6 +26,23 @@ describe('samples', () => {
     }, 60_000);
   }
 
+  it('check reports a loop unstable about its operating point (LW604) as the editor does, and exits 0 on the warning', async () => {
+    // the boom with a proportional gain below what holds the arm up: its closed loop has a pole
+    // right of the axis (test/linear/stability.test.ts checks the pole itself)
+    const weak = read('samples/boom.loop').replace(/param kp = 14 \[N\*m\/rad\]/, 'param kp = 3 [N*m/rad]');
+    expect(weak).toContain('param kp = 3 [N*m/rad]');
+    const r = await cli(['check', '--json', 'weak.loop'], { 'weak.loop': weak });
+    expect(r.code).toBe(0);
+    const ds = JSON.parse(r.out) as { code: string; severity: string; line: number; message: string }[];
+    expect(ds.map((d) => d.code)).toEqual(['LW604']);
+    expect(ds[0].severity).toBe('warning');
+    expect(ds[0].message).toMatch(/is unstable: a pole right of the imaginary axis/);
+    expect(weak.split('\n')[ds[0].line - 1]).toMatch(/^\s*around /);
+    // a file with an error elsewhere is not judged (the editor does the same)
+    const broken = await cli(['check', '--json', 'weak.loop'], { 'weak.loop': weak.replace('param kd =', 'param kd = nope +') });
+    expect(JSON.parse(broken.out).map((d: { code: string }) => d.code)).not.toContain('LW604');
+  });
+
   it('the stiff sample needs method = stiff: the explicit method runs out of steps', () => {
     const c = compileAnalysis(analyze(read('samples/stiff.loop'))).loop!;
     const [run] = simulate(c, { mode: 'simulate', method: 'adaptive' });

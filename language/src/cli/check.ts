@@ -6,6 +6,7 @@ import { EXIT_FAIL, EXIT_OK, EXIT_USAGE, parseArgs, type CliCommand } from './ty
 import { readSource } from './source';
 import { compileAnalysis } from '../model/compile';
 import type { Diagnostic } from '../diagnostics';
+import { checkLoopStability } from '../linear/stability';
 
 /** A system shared by two loops is compiled twice; report each of its findings once. */
 function dedupe(ds: Diagnostic[]): Diagnostic[] {
@@ -20,7 +21,7 @@ function dedupe(ds: Diagnostic[]): Diagnostic[] {
 
 export const command: CliCommand = {
   name: 'check',
-  summary: 'check files for syntax, name, unit and wiring errors',
+  summary: 'check files for syntax, name, unit and wiring errors, and loops unstable about their operating point',
   usage: `loopwright check FILE... [--json]
 
 Prints one line per diagnostic:  path:line:col: severity CODE message
@@ -41,7 +42,10 @@ Exit status: 0 no errors (warnings allowed), 1 an error was found, 2 usage error
       // model-level checks (algebraic loops, improper relations) come from compiling each loop;
       // compiling adds its diagnostics to the analysis
       for (const loop of a.symbols.loops.keys()) compileAnalysis(a, loop);
-      all.push(...locate(file, src, dedupe(a.diagnostics)));
+      // LW604 (a loop unstable about its operating point) as the editor shows it: judged only in a
+      // file without errors, since only such a file has values to linearize
+      const stability = a.diagnostics.some((d) => d.severity === 'error') ? [] : checkLoopStability(a);
+      all.push(...locate(file, src, dedupe([...a.diagnostics, ...stability])));
     }
     if (p.flags.has('json')) io.out(JSON.stringify(all, null, 2));
     else for (const d of all) io.out(diagnosticLine(d));
