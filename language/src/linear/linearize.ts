@@ -14,7 +14,7 @@ import type { Analysis } from '../analysis';
 import { DiagnosticSink } from '../diagnostics';
 import { compileSystem } from '../model/system';
 import type { CompiledSystem, VarInfo } from '../model/types';
-import type { QuantityTable } from '../model/units';
+import { signalUnitText, type QuantityTable } from '../model/units';
 import type { PoleInfo } from '../protocol';
 import { completeHidden, methodOf, systemJacobians } from './jacobian';
 import { discretize } from './discretize';
@@ -27,7 +27,6 @@ import { derivativeUnit } from './equilibrium';
 import { discretePolesOf, polesOf, type PoleReport, type Verdict } from './poles';
 import { zerosOf } from './zeros';
 import type { Mat } from './dense';
-import type { Expr } from '../syntax/ast';
 
 export interface VarEntry {
   name: string;
@@ -239,7 +238,7 @@ function loopUncached(analysis: Analysis, loopName?: string): LoopLinearization 
   if (!lin.ok) return { ...emptyLin(lin.problem ?? 'the loop could not be linearized'), ...base };
   const ss = lin.closed;
   const states = lin.states.map((v, i) => entryOf(v, lin.x[i]));
-  const sigUnits = lin.signals.map((s) => unitOf(signalUnit(lin, s.name)));
+  const sigUnits = lin.signals.map((s) => unitOf(signalUnitText(s.decl, analysis.units?.inferred)));
   const sigScale = sigUnits.map((u) => (Number.isFinite(u.scale) && u.scale !== 0 ? u.scale : 1));
   const inputs: VarEntry[] = lin.signals.map((s, i) => ({ name: s.name, unit: sigUnits[i].text, value: (s.value - sigUnits[i].offset) / sigScale[i] }));
   const outputs = lin.outputs.map((v, i) => entryOf(v, lin.y[i]));
@@ -272,17 +271,3 @@ function loopUncached(analysis: Analysis, loopName?: string): LoopLinearization 
   };
 }
 
-/** A loop signal's unit: that of its first literal with a unit (SI values are used as given). */
-function signalUnit(lin: LoopLinear, name: string): string {
-  const s = lin.signals.find((x) => x.name === name);
-  let unit = '';
-  const walk = (e: Expr): void => {
-    if (unit) return;
-    if (e.kind === 'quantity') unit = e.unit.text;
-    else if (e.kind === 'binary') { walk(e.left); walk(e.right); }
-    else if (e.kind === 'unary') walk(e.operand);
-    else if (e.kind === 'call') e.args.forEach(walk);
-  };
-  if (s) walk(s.decl.value);
-  return unit;
-}

@@ -14,7 +14,7 @@ import { DEP, Graph, evaluate } from './graph';
 import { lowerExpr, planSystem, SystemLowering, type LowerEnv, type NameLowering, type SystemPlan } from './lower';
 import { compileSystem } from './system';
 import { LimitMode, type CompiledLoop, type CompiledSystem, type InstanceLayout, type LoopEvaluator, type LoopLimit, type OperatingPoint, type SampledController, type TracedSignal, type VarInfo } from './types';
-import { displayUnit } from './units';
+import { displayUnit, signalUnitText, type InferredUnits } from './units';
 
 /** A traced signal request: the expression and how to name it. */
 export interface TraceRequest {
@@ -308,7 +308,7 @@ export function compileLoop(input: LoopCompileInput): CompiledLoop | undefined {
       if (req.shown) traced.find((t) => t.name === req.name)!.shown = true;
       continue;
     }
-    const info = traceInfo(req, symbols, byName, limits);
+    const info = traceInfo(req, symbols, byName, limits, env.inferred);
     traced.push(info);
     traceNodes.push(lowerLoop(req.expr));
   }
@@ -536,11 +536,11 @@ export interface LoopExtras {
   text: string;
 }
 
-function traceInfo(req: TraceRequest, symbols: SymbolTable, byName: Map<string, Inst>, limits: LoopLimit[]): TracedSignal {
+function traceInfo(req: TraceRequest, symbols: SymbolTable, byName: Map<string, Inst>, limits: LoopLimit[], inferred?: InferredUnits): TracedSignal {
   const e = req.expr;
   const t = symbols.resolved.get(e);
   if (t?.kind === 'signal') {
-    const u = signalUnit(t.decl.value);
+    const u = displayUnit(signalUnitText(t.decl, inferred));
     return { name: req.name, kind: 'signal', unit: u.text, scale: u.scale, offset: u.offset, shown: req.shown };
   }
   if (t?.kind === 'member' && e.kind === 'member') {
@@ -557,15 +557,6 @@ function traceInfo(req: TraceRequest, symbols: SymbolTable, byName: Map<string, 
     }
   }
   return { name: req.name, kind: 'expr', unit: '', scale: 1, offset: 0, shown: req.shown };
-}
-
-/** The unit of a signal: that of its first literal with a unit (signals are checked for consistency). */
-function signalUnit(e: Expr) {
-  let unit: string | undefined;
-  walkExpr(e, (x) => {
-    if (unit === undefined && x.kind === 'quantity') unit = x.unit.text;
-  });
-  return displayUnit(unit);
 }
 
 /** Solves A X = B in place (A m×m, B m×k, row-major) by Gaussian elimination with partial pivoting; false when singular. */

@@ -23,7 +23,7 @@ import type { SymbolTable, SystemSymbol, Target } from '../check/symbols';
 import type { Expr, LimitDecl, LinearBlock, ParamDecl, PidLaw, QuantityExpr, SampleMethod, TransferRel } from '../syntax/ast';
 import { walkExpr } from '../syntax/ast';
 import { Graph, evaluate, type Op } from './graph';
-import { displayUnit, quantitySI, cyclesOf, type DisplayUnit, type QuantityTable } from './units';
+import { displayUnit, quantitySI, cyclesOf, type DisplayUnit, type InferredUnits, type QuantityTable } from './units';
 import type { VarInfo } from './types';
 import { ratAdd, ratConst, ratDiv, ratMul, ratNeg, ratPow, ratS, ratSub, relativeDegree, ratDegrees, ratNormalize, type Rational } from '../linear/rational';
 import { realizePid, realizeRational } from '../linear/realize';
@@ -33,6 +33,8 @@ import type { StateSpace } from '../linear/lti';
 export interface LowerEnv {
   symbols: SymbolTable;
   quantities?: QuantityTable;
+  /** Inferred units of loop signals, for showing them (signalUnitText). */
+  inferred?: InferredUnits;
   sink: DiagnosticSink;
 }
 

@@ -44,6 +44,20 @@ export function toDisplay(si: number, u: DisplayUnit): number {
   return (si - u.offset) / u.scale;
 }
 
+/** The unit checker's inferred units of declarations (signals, params, lets), when present. */
+export interface InferredUnits {
+  get(decl: object): { text: string } | undefined;
+}
+
+/**
+ * The unit a loop signal is shown in: the one the unit checker inferred for its expression
+ * (`step(1 [s], 5 [deg])` is in deg, `ramp(0 [s], 2 [rpm/s])` in rpm). Without the checker's
+ * results the signal is shown in SI with no unit name.
+ */
+export function signalUnitText(decl: object, inferred?: InferredUnits): string {
+  return inferred?.get(decl)?.text ?? '';
+}
+
 /** Unit-checker results the compiler can use when present. */
 export interface QuantityTable {
   get(q: QuantityExpr): { si: number } | undefined;
