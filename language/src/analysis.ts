@@ -5,7 +5,7 @@
 
 import { DiagnosticSink, type Diagnostic } from './diagnostics';
 import type { FileAst } from './syntax/ast';
-import { parse } from './syntax/parse';
+import { parse, type ParseResult } from './syntax/parse';
 import { checkNames } from './check/names';
 import { checkAlgebraicLoops } from './check/wiring';
 import type { SymbolTable } from './check/symbols';
@@ -34,24 +34,51 @@ export interface Analysis {
   sink: DiagnosticSink;
 }
 
+/**
+ * An analysis whose tokens come from its parse when first asked for (the parse drops its tokens
+ * block by block, syntax/parse.ts). A class, so that the getter is shared by every analysis.
+ */
+class DocumentAnalysis implements Analysis {
+  readonly diagnostics: Diagnostic[];
+  readonly cache = new Map<string, unknown>();
+
+  constructor(
+    readonly text: string,
+    readonly ast: FileAst,
+    readonly symbols: SymbolTable,
+    readonly units: UnitsResult | undefined,
+    readonly sink: DiagnosticSink,
+    private readonly parsed: ParseResult | undefined,
+  ) {
+    this.diagnostics = sink.items;
+  }
+
+  get tokens(): IToken[] {
+    try {
+      return this.parsed ? this.parsed.tokens : [];
+    } catch {
+      return [];
+    }
+  }
+}
+
 /** Analyses a document. Never throws, whatever the text. */
 export function analyze(text: string, options: AnalyzeOptions = {}): Analysis {
   const sink = new DiagnosticSink();
   let ast: FileAst = { kind: 'file', span: { start: 0, end: text.length }, blocks: [], comments: [] };
-  let tokens: IToken[] = [];
+  let parsed: ParseResult | undefined;
   let symbols: SymbolTable = { systems: new Map(), loops: new Map(), blocks: [], refs: [], resolved: new Map() };
   let units: UnitsResult | undefined;
   try {
-    const parsed = parse(text, sink);
+    parsed = parse(text, sink);
     ast = parsed.ast;
-    tokens = parsed.tokens;
     symbols = checkNames(ast, sink);
     checkAlgebraicLoops(symbols, sink);
     if (!options.skipUnits) units = checkUnits(ast, symbols, sink);
   } catch (err) {
     sink.error('LW101', { start: 0, end: Math.min(1, text.length) }, `internal error while analysing (please report): ${(err as Error).message}`);
   }
-  const analysis: Analysis = { text, ast, symbols, units, diagnostics: sink.items, tokens, cache: new Map(), sink };
+  const analysis: Analysis = new DocumentAnalysis(text, ast, symbols, units, sink, parsed);
   if (!options.skipUnits && !options.skipOperatingPoints) {
     try {
       sink.items.push(...checkOperatingPoints(analysis));

@@ -8,15 +8,73 @@ import { getParser } from './parser';
 import { lexLoop, UnitLit, UnterminatedString } from './tokens';
 
 export interface ParseResult {
-  ast: FileAst;
-  tokens: IToken[];
-  comments: IToken[];
+  readonly ast: FileAst;
+  /** The document's tokens (lexed on first use). */
+  readonly tokens: IToken[];
+  readonly comments: IToken[];
 }
 
-export function parse(text: string, sink: DiagnosticSink): ParseResult {
-  const lexed = lexLoop(text);
+/** Least length of a piece the text is split into for lexing and parsing (see blockStarts). */
+export const PIECE_CHARS = 16384;
+
+export function parse(text: string, sink: DiagnosticSink, pieceChars = PIECE_CHARS): ParseResult {
+  const blocks: FileAst['blocks'] = [];
+  const comments: IToken[] = [];
+  const starts = blockStarts(text, pieceChars);
+  for (let k = 0; k < starts.length; k++) {
+    const last = k + 1 === starts.length;
+    // a piece is kept only when it parsed without a syntax error: the whole-file parse's recovery
+    // could have carried an error across the cut, so from such a piece on the rest is one piece
+    if (!parsePiece(text, starts[k], last ? text.length : starts[k + 1], sink, blocks, comments, !last)) {
+      parsePiece(text, starts[k], text.length, sink, blocks, comments, false);
+      break;
+    }
+  }
+  const ast: FileAst = {
+    kind: 'file',
+    span: { start: 0, end: text.length },
+    blocks,
+    comments: comments.filter((t) => Number.isFinite(t.startOffset)).map((t) => ({ text: t.image, span: { start: t.startOffset, end: t.startOffset + t.image.length } })),
+  };
+  limitDepth(ast, sink);
+  return new ParsedDocument(text, ast, comments);
+}
+
+/**
+ * A parse result whose tokens are lexed again when first asked for (see blockStarts). The getter
+ * is the class's own, not one made per result: an object literal with a getter gets a map of its
+ * own per result, and V8's scavenges then keep every earlier result alive through those maps.
+ */
+class ParsedDocument implements ParseResult {
+  private lexed: IToken[] | undefined = undefined;
+
+  constructor(
+    private readonly text: string,
+    readonly ast: FileAst,
+    readonly comments: IToken[],
+  ) {}
+
+  get tokens(): IToken[] {
+    return (this.lexed ??= lexLoop(this.text).tokens);
+  }
+}
+
+/**
+ * Lexes and parses the blocks in text[from, to), adding them and their comments to `blocks` and
+ * `comments` and their diagnostics to `sink`, all with offsets in the whole text. A `tentative`
+ * piece adds nothing and returns false when it has a syntax error.
+ */
+function parsePiece(text: string, from: number, to: number, into: DiagnosticSink, blocks: FileAst['blocks'], comments: IToken[], tentative: boolean): boolean {
+  const sink = tentative ? new DiagnosticSink() : into;
+  const lexed = lexLoop(from === 0 && to === text.length ? text : text.slice(from, to));
+  const pieceComments = (lexed.groups.comments ?? []) as IToken[];
+  if (from > 0) {
+    shiftTokens(lexed.tokens, from);
+    shiftTokens(pieceComments, from);
+    for (const e of lexed.errors) e.offset += from;
+  }
   for (const e of lexed.errors) {
-    const start = Number.isFinite(e.offset) ? e.offset : 0;
+    const start = Number.isFinite(e.offset) ? e.offset : from;
     let end = start + (e.length || 1);
     end = Math.min(Math.max(end, start + 1), Math.max(text.length, start));
     const ch = text.slice(start, end);
@@ -32,25 +90,113 @@ export function parse(text: string, sink: DiagnosticSink): ParseResult {
       sink.error('LW103', { start: t.startOffset, end: t.startOffset + t.image.length }, 'expected \'"\' to close the string before the end of the line');
     }
   }
-  const comments = (lexed.groups.comments ?? []) as IToken[];
   const parser = getParser();
   parser.setInput(lexed.maxDepth > MAX_BRACKET_DEPTH ? dropDeepNesting(lexed.tokens, sink) : lexed.tokens, text);
-  let blocks: FileAst['blocks'] = [];
+  let read: FileAst['blocks'] = [];
   try {
-    blocks = parser.parseFile();
+    read = parser.parseFile();
   } catch (err) {
+    if (tentative) return false;
     // Chevrotain does not throw on bad input with recovery enabled; this guards the unexpected.
-    sink.error('LW101', { start: 0, end: Math.min(text.length, 1) }, `the file could not be read: ${(err as Error).message}`);
+    sink.error('LW101', { start: from, end: Math.min(to, from + 1) }, `the file could not be read: ${(err as Error).message}`);
   }
-  reportParseErrors(parser.errors, text, sink);
-  const ast: FileAst = {
-    kind: 'file',
-    span: { start: 0, end: text.length },
-    blocks,
-    comments: comments.filter((t) => Number.isFinite(t.startOffset)).map((t) => ({ text: t.image, span: { start: t.startOffset, end: t.startOffset + t.image.length } })),
-  };
-  limitDepth(ast, sink);
-  return { ast, tokens: lexed.tokens, comments };
+  if (tentative && parser.errors.length > 0) return false;
+  reportParseErrors(parser.errors, text, to, sink);
+  for (const b of read) blocks.push(b);
+  for (const c of pieceComments) comments.push(c);
+  if (tentative) for (const d of sink.items) into.items.push(d);
+  return true;
+}
+
+function shiftTokens(tokens: IToken[], by: number): void {
+  for (let i = 0; i < tokens.length; i++) {
+    const t = tokens[i];
+    t.startOffset += by;
+    if (t.endOffset !== undefined) t.endOffset += by;
+  }
+}
+
+/**
+ * Where the text splits into pieces that are lexed and parsed one after another: 0, and the start
+ * of a line that begins with a block keyword (`plant`, `controller`, `loop`), once the piece before
+ * it holds at least `minChars` characters. A piece's tokens are dropped once it is parsed, so a
+ * large document never holds all its tokens at once while its tree is built: they die young
+ * instead of being copied by the collector (the tokens are lexed again only when something asks
+ * for them, as the editor's colouring does).
+ *
+ * A cut is made only where the whole-file parse is certainly between two blocks: at brace depth 0
+ * with no ( or [ open, and right after the '}' that closed the block before (comments and blank
+ * lines aside). Anything this scan cannot be sure of as the lexer would read it (a brace or a
+ * quote inside brackets, where a unit may hold it) stops the cutting for the rest of the text.
+ * Fewer cuts only make the pieces more like the whole file; test/syntax/pieces.test.ts checks that
+ * the result does not depend on the cuts.
+ */
+export function blockStarts(text: string, minChars = PIECE_CHARS): number[] {
+  const out = [0];
+  let braces = 0;
+  let brackets = 0;
+  // the last character that is not white space or in a comment
+  let last = -1;
+  let lineStart = true;
+  const n = text.length;
+  for (let i = 0; i < n; i++) {
+    if (lineStart) {
+      lineStart = false;
+      if (braces === 0 && brackets === 0 && last === 125 /* } */ && i - out[out.length - 1] >= minChars && startsBlock(text, i)) out.push(i);
+    }
+    const c = text.charCodeAt(i);
+    if (c === 10 /* \n */) {
+      lineStart = true;
+      continue;
+    }
+    if (c === 32 || c === 9 || c === 13) continue;
+    if (c === 35 /* # */) {
+      // a comment runs to the end of the line
+      while (i + 1 < n && text.charCodeAt(i + 1) !== 10 && text.charCodeAt(i + 1) !== 13) i++;
+      continue;
+    }
+    last = c;
+    if (c === 34 /* " */) {
+      // a string ends at its closing quote or at the end of the line
+      let j = i + 1;
+      while (j < n) {
+        const d = text.charCodeAt(j);
+        if (d === 10 || d === 13 || d === 34) break;
+        j += d === 92 /* \ */ && j + 1 < n && text.charCodeAt(j + 1) !== 10 && text.charCodeAt(j + 1) !== 13 ? 2 : 1;
+      }
+      if (j < n && text.charCodeAt(j) === 34) i = j;
+      else i = j - 1;
+    } else if (c === 123 || c === 125 /* { } */) {
+      braces = c === 123 ? braces + 1 : Math.max(0, braces - 1);
+      // as in the lexer's nesting count: a brace ends any ( or [ left open
+      brackets = 0;
+    } else if (c === 40 /* ( */) brackets++;
+    else if (c === 41 /* ) */ || c === 93 /* ] */) brackets = Math.max(0, brackets - 1);
+    else if (c === 91 /* [ */) {
+      brackets++;
+      // a unit in brackets is one token up to its ']' (or the end of the line, '[' or '#'); a brace
+      // or a quote in there may or may not be one: stop cutting rather than guess
+      for (let j = i + 1; j < n; j++) {
+        const d = text.charCodeAt(j);
+        if (d === 93 || d === 10 || d === 13 || d === 91 || d === 35) break;
+        if (d === 123 || d === 125 || d === 34) return out;
+      }
+    }
+  }
+  return out;
+}
+
+const BLOCK_WORDS = ['plant', 'controller', 'loop'];
+
+/** Does a block keyword, as a whole word, begin at `at` (the start of a line)? */
+function startsBlock(text: string, at: number): boolean {
+  for (const w of BLOCK_WORDS) {
+    if (!text.startsWith(w, at)) continue;
+    const next = text.charCodeAt(at + w.length);
+    // a space or tab after the word: `loop Name {`, not `loopy` or `loop.x`
+    if (next === 32 || next === 9) return true;
+  }
+  return false;
 }
 
 /** Deepest bracket nesting the parser accepts (its rules recurse per level). */
@@ -181,10 +327,10 @@ function depthOf(root: Expr): number {
   return max;
 }
 
-function reportParseErrors(errors: IRecognitionException[], text: string, sink: DiagnosticSink): void {
+function reportParseErrors(errors: IRecognitionException[], text: string, end: number, sink: DiagnosticSink): void {
   const seen = new Set<string>();
   for (const e of errors) {
-    const span = errorSpan(e, text);
+    const span = errorSpan(e, text, end);
     const key = `${span.start}:${e.message}`;
     if (seen.has(key)) continue;
     seen.add(key);
@@ -192,15 +338,16 @@ function reportParseErrors(errors: IRecognitionException[], text: string, sink: 
   }
 }
 
-function errorSpan(e: IRecognitionException, text: string): Span {
+/** Where a parse error goes; `end` is the end of the piece being parsed (where its input ran out). */
+function errorSpan(e: IRecognitionException, text: string, end: number): Span {
   const tok = e.token;
   if (tok && Number.isFinite(tok.startOffset) && !tok.isInsertedInRecovery && tok.image !== undefined && tok.tokenType?.name !== 'EOF') {
     return { start: tok.startOffset, end: tok.startOffset + Math.max(1, tok.image.length) };
   }
   const prev = (e as IRecognitionException & { previousToken?: IToken }).previousToken;
   if (prev && Number.isFinite(prev.startOffset)) {
-    const end = prev.startOffset + prev.image.length;
-    return { start: end, end: Math.min(text.length, end + 1) > end ? end + 1 : end };
+    const after = prev.startOffset + prev.image.length;
+    return { start: after, end: Math.min(text.length, after + 1) > after ? after + 1 : after };
   }
-  return { start: Math.max(0, text.length - 1), end: text.length };
+  return { start: Math.max(0, end - 1), end };
 }

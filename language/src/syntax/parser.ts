@@ -31,6 +31,8 @@ const messages: IParserErrorMessageProvider = {
     if (expected === T.RParen) return `expected ')' to close the parentheses, found ${show(actual)}`;
     if (expected === T.RCurly) return `expected '}' to close the ${ruleName === 'block' ? 'block' : 'braces'}, found ${show(actual)}`;
     if (expected === T.Ident) return `expected a name, found ${show(actual)}`;
+    // the file rule ends with EOF: what it met is something other than a block at the top level
+    if (expected === EOF) return `expected a block ('plant', 'controller' or 'loop'), found ${show(actual)}`;
     if (expected === T.Arrow && ruleName === 'arrowMember') {
       return `expected '->' after this expression, found ${show(actual)} (an arrow reads 'EXPR -> SYSTEM.INPUT'; if the line continues the previous one, end the previous line with the operator)`;
     }
