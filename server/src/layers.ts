@@ -7,7 +7,7 @@ import type { LoopSymbol, SystemSymbol } from '../../language/src/check/symbols'
 import type { Diagnostic } from '../../language/src/diagnostics';
 import { compileAnalysis } from '../../language/src/model/compile';
 import { checkOperatingPoints } from '../../language/src/linear/equilibrium';
-import { checkLoopStability } from '../../language/src/linear/stability';
+import { stabilityDiagnostics } from '../../language/src/linear/stability';
 import { linearizeLoop, linearizeSystem, type LoopLinearization, type SystemLinearization } from '../../language/src/linear/linearize';
 import type { Dim } from '../../language/src/units/dimension';
 
@@ -53,7 +53,7 @@ export function operatingPointDiagnostics(a: Analysis): Diagnostic[] {
   const hit = a.cache.get(key) as Diagnostic[] | undefined;
   if (hit) return hit;
   // Only a file without errors has values to judge; the check itself never throws.
-  const out = a.diagnostics.some((d) => d.severity === 'error') ? [] : [...checkOperatingPoints(a), ...checkLoopStability(a)];
+  const out = a.diagnostics.some((d) => d.severity === 'error') ? [] : [...checkOperatingPoints(a), ...stabilityDiagnostics(a)];
   a.cache.set(key, out);
   return out;
 }

@@ -6,7 +6,7 @@ import { EXIT_FAIL, EXIT_OK, EXIT_USAGE, parseArgs, type CliCommand } from './ty
 import { readSource } from './source';
 import { compileAnalysis } from '../model/compile';
 import type { Diagnostic } from '../diagnostics';
-import { checkLoopStability } from '../linear/stability';
+import { stabilityDiagnostics } from '../linear/stability';
 
 /** A system shared by two loops is compiled twice; report each of its findings once. */
 function dedupe(ds: Diagnostic[]): Diagnostic[] {
@@ -42,10 +42,8 @@ Exit status: 0 no errors (warnings allowed), 1 an error was found, 2 usage error
       // model-level checks (algebraic loops, improper relations) come from compiling each loop;
       // compiling adds its diagnostics to the analysis
       for (const loop of a.symbols.loops.keys()) compileAnalysis(a, loop);
-      // LW604 (a loop unstable about its operating point) as the editor shows it: judged only in a
-      // file without errors, since only such a file has values to linearize
-      const stability = a.diagnostics.some((d) => d.severity === 'error') ? [] : checkLoopStability(a);
-      all.push(...locate(file, src, dedupe([...a.diagnostics, ...stability])));
+      // LW604 (a loop unstable about its operating point) as the editor shows it
+      all.push(...locate(file, src, dedupe([...a.diagnostics, ...stabilityDiagnostics(a)])));
     }
     if (p.flags.has('json')) io.out(JSON.stringify(all, null, 2));
     else for (const d of all) io.out(diagnosticLine(d));

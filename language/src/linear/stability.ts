@@ -9,6 +9,7 @@
 //
 // API
 //   checkLoopStability(analysis) → Diagnostic[]
+//   stabilityDiagnostics(analysis) → Diagnostic[]   LW604 as the editor and `check` show it
 
 import type { Analysis } from '../analysis';
 import type { Diagnostic } from '../diagnostics';
@@ -51,4 +52,12 @@ export function checkLoopStability(analysis: Analysis): Diagnostic[] {
     }
   }
   return out;
+}
+
+/**
+ * LW604 as the editor and `loopwright check` show it: judged only in a file without errors, since
+ * only such a file has values to linearize.
+ */
+export function stabilityDiagnostics(analysis: Analysis): Diagnostic[] {
+  return analysis.diagnostics.some((d) => d.severity === 'error') ? [] : checkLoopStability(analysis);
 }

@@ -9,7 +9,7 @@ import type { Expr } from '../syntax/ast';
 import { pathText, walkExpr } from '../syntax/ast';
 import { compileLoop, type LoopExtras, type TraceRequest } from './loop';
 import type { CompiledLoop } from './types';
-import type { InferredUnits, QuantityTable } from './units';
+import type { QuantityTable } from './units';
 
 export type Compiled = CompiledLoop & LoopExtras;
 
@@ -90,7 +90,7 @@ function compileUncached(analysis: Analysis, loopName?: string): CompileResult {
   const quantities = (analysis.units as { quantities?: QuantityTable } | undefined)?.quantities;
   let compiled: Compiled | undefined;
   try {
-    compiled = compileLoop({ text: analysis.text, symbols, loop, env: { symbols, quantities, inferred: analysis.units?.inferred as InferredUnits | undefined, sink }, traces }) as Compiled | undefined;
+    compiled = compileLoop({ text: analysis.text, symbols, loop, env: { symbols, quantities, inferred: analysis.units?.inferred, sink }, traces }) as Compiled | undefined;
   } catch (err) {
     sink.error('LW506', loop.nameSpan, `internal error while compiling loop '${loop.name}' (please report): ${(err as Error).message}`);
   }
