@@ -139,21 +139,37 @@ export async function waitForCodeLens(page: Page, text: string, timeout = 60_000
   return lens;
 }
 
-/** Moves the mouse onto an element and returns the text of the hover it opens. */
+/**
+ * Moves the mouse onto an element and returns the text of the hover it opens. The element's box
+ * is read again on every attempt: a code lens or a diagnostic arriving after the first reading
+ * moves the lines under a resting mouse, and the hover then never opens where it points. Each
+ * attempt waits a few seconds for the hover, moves the mouse away and comes back, until the
+ * whole timeout has passed.
+ */
 export async function hoverText(page: Page, target: Locator, timeout = 30_000): Promise<string> {
+  const until = Date.now() + timeout;
   await target.waitFor({ timeout });
-  const box = await target.boundingBox();
-  if (!box) throw new Error('hover target is not visible');
-  await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
-  await page.mouse.move(box.x + box.width / 2 + 1, box.y + box.height / 2);
   const hover = page.locator('.monaco-hover-content').first();
-  await hover.waitFor({ state: 'visible', timeout });
-  // A hover may first show "Loading..." while the server answers.
-  await page.waitForFunction(() => {
-    const el = document.querySelector('.monaco-hover-content');
-    return !!el && !/^\s*Loading/.test(el.textContent ?? '');
-  }, undefined, { timeout });
-  return hover.innerText();
+  for (let attempt = 0; ; attempt++) {
+    const box = await target.boundingBox();
+    if (!box) throw new Error('hover target is not visible');
+    await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
+    await page.mouse.move(box.x + box.width / 2 + 1, box.y + box.height / 2);
+    const left = until - Date.now();
+    try {
+      await hover.waitFor({ state: 'visible', timeout: Math.max(1, Math.min(8_000, left)) });
+      // A hover may first show "Loading..." while the server answers.
+      await page.waitForFunction(() => {
+        const el = document.querySelector('.monaco-hover-content');
+        return !!el && !/^\s*Loading/.test(el.textContent ?? '');
+      }, undefined, { timeout: Math.max(1, until - Date.now()) });
+      return await hover.innerText();
+    } catch (e) {
+      if (Date.now() >= until) throw new Error(`no hover opened on the target in ${timeout} ms (${attempt + 1} attempts): ${(e as Error).message}`);
+      await page.mouse.move(5, 450);
+      await page.keyboard.press('Escape');
+    }
+  }
 }
 
 export async function dismissHover(page: Page): Promise<void> {
