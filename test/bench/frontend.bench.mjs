@@ -33,7 +33,9 @@ function cpuMs(fn) {
 
 // The first analysis in a fresh process (nothing compiled yet): what opening a file costs.
 const cold = cpuMs(() => analyze(generateDocument(5000), { skipUnits: true, skipOperatingPoints: true }));
-const SIZES = role === 'defaults' ? [5000] : [1000, 5000, 20000];
+// 40k and 80k lines (parse+names only) show the growth past 20k: the cost per line steps up once
+// one analysis's tree no longer fits in the young generation, and is flat again after the step.
+const SIZES = role === 'defaults' ? [5000] : [1000, 5000, 20000, 40000, 80000];
 const SKIPS = role === 'defaults' ? [true] : [true, false];
 
 // The language server analyses the same code on every edit, so the figures below are of warm
@@ -46,11 +48,11 @@ const rows = [];
 for (const lines of SIZES) {
   const text = generateDocument(lines);
   const n = text.split('\n').length;
-  for (const skipUnits of SKIPS) {
+  for (const skipUnits of lines > 20000 ? [true] : SKIPS) {
     for (let w = 0; w < 5; w++) analyze(text, { skipUnits, skipOperatingPoints: true });
     const cpu = [];
     const wall = [];
-    const reps = lines > 10000 ? 10 : 30;
+    const reps = lines > 30000 ? 6 : lines > 10000 ? 10 : 30;
     for (let r = 0; r < reps; r++) {
       const t = cpuMs(() => analyze(text, { skipUnits, skipOperatingPoints: true }));
       cpu.push(t.cpu);
