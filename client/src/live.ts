@@ -1,7 +1,7 @@
 // Live runs, client side. The server owns them (server/src/live.ts): the client tells it which
 // loops have open plot panels (`loopwright/watch`, again after a server restart) and forwards what
 // it pushes to the panels: `loopwright/liveReport` updates the panel in place, `loopwright/liveStatus`
-// shows the "Not re-run" banner over the last good plot. The setting `loopwright.live.enabled`
+// shows the "Not re-run" banner over the last good plot, or that a slow re-run is going on. The setting `loopwright.live.enabled`
 // reaches the server with the other settings; reports that arrive after it was turned off are
 // dropped here too.
 import * as vscode from 'vscode';
@@ -49,7 +49,8 @@ export function watchLiveRuns(services: CommandServices): vscode.Disposable {
       if (!p) return;
       const panel = panels.get(p);
       if (!panel || !liveEnabled(p.uri) || outdated(p.uri, p.version)) return;
-      panel.status('error', p.message, p.line);
+      if (p.kind === 'running') panel.status('running', 'after the edit');
+      else panel.status('error', p.message, p.line);
     }),
   ];
   return vscode.Disposable.from(...subs);

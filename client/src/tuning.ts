@@ -92,6 +92,7 @@ export function parseLiveReport(p: unknown): LiveReportParams | undefined {
 /** A `loopwright/liveStatus` as pushed, or undefined when any part is unusable. */
 export function parseLiveStatus(p: unknown): LiveStatusParams | undefined {
   if (!isObject(p) || typeof p.uri !== 'string' || typeof p.loop !== 'string' || !isVersion(p.version)) return undefined;
+  if (p.kind === 'running') return { uri: p.uri, loop: p.loop, version: p.version, kind: 'running', message: '' };
   if (p.kind !== 'error' || typeof p.message !== 'string') return undefined;
   const line = Number.isInteger(p.line) && (p.line as number) >= 1 ? (p.line as number) : undefined;
   return { uri: p.uri, loop: p.loop, version: p.version, kind: 'error', message: p.message, ...(line ? { line } : {}) };

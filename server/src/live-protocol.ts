@@ -4,8 +4,10 @@
 // the mode it shows) or closed (`open: false`). While a loop is watched, every edit of its
 // document re-runs it once typing pauses.
 // Server → client `loopwright/liveReport`: the report of the run of document version `version`.
-// Server → client `loopwright/liveStatus`: version `version` was not run; `line` (1-based) is
-// where the first error is, when it points into the document.
+// Server → client `loopwright/liveStatus`: `kind: 'error'`: version `version` was not run; `line`
+// (1-based) is where the first error is, when it points into the document. `kind: 'running'`: the
+// run of version `version` has been going for LIVE_RUNNING_NOTICE_MS and is still going (a run
+// that ends sooner sends only its report, so the panel does not flicker on every keystroke).
 
 import type { LoopRunReport, RunMode } from '../../language/src/protocol';
 
@@ -32,7 +34,8 @@ export interface LiveStatusParams {
   uri: string;
   loop: string;
   version: number;
-  kind: 'error';
+  kind: 'error' | 'running';
+  /** What went wrong (error); empty for running. */
   message: string;
   line?: number;
 }

@@ -14,6 +14,8 @@ import type { LiveReportParams, LiveStatusParams } from './live-protocol';
 import type { RunJob } from './worker-protocol';
 
 export const LIVE_DEBOUNCE_MS = 150;
+/** A live run still going after this long is shown as running in its panel. */
+export const LIVE_RUNNING_NOTICE_MS = 250;
 
 export interface LiveHost {
   /** The analysis of the document's current version; undefined when it is not open. */
@@ -50,6 +52,7 @@ export class LiveRuns {
   constructor(
     private readonly host: LiveHost,
     private readonly delayMs = LIVE_DEBOUNCE_MS,
+    private readonly runningNoticeMs = LIVE_RUNNING_NOTICE_MS,
   ) {}
 
   /** Handles `loopwright/watch`; malformed params are ignored. */
@@ -145,6 +148,9 @@ export class LiveRuns {
     this.inFlight.set(key, source);
     const { version } = state;
     const current = () => !source.token.isCancellationRequested && this.host.version(uri) === version && this.watched.get(uri)?.has(loop) === true;
+    const notice = setTimeout(() => {
+      if (current()) this.host.status({ uri, loop, version, kind: 'running', message: '' });
+    }, this.runningNoticeMs);
     this.host.run(this.host.job(state.analysis.text, loop, mode), source.token).then(
       (report) => {
         if (current()) this.host.report({ uri, loop, version, report });
@@ -153,6 +159,7 @@ export class LiveRuns {
         if (current()) this.host.status({ uri, loop, version, kind: 'error', message: (err as Error)?.message ?? String(err) });
       },
     ).finally(() => {
+      clearTimeout(notice);
       if (this.inFlight.get(key) === source) this.inFlight.delete(key);
       source.dispose();
     });

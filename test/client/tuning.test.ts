@@ -84,4 +84,11 @@ describe('live pushes from the server', () => {
     expect(parseLiveStatus({ ...base, kind: 'idle' })).toBeUndefined();
     expect(parseLiveStatus({ ...base, message: 7 })).toBeUndefined();
   });
+
+  it('a running push needs no message and carries none', () => {
+    const base = { uri: 'file:///a.loop', loop: 'Upright', version: 4 };
+    expect(parseLiveStatus({ ...base, kind: 'running', message: '' })).toEqual({ ...base, kind: 'running', message: '' });
+    expect(parseLiveStatus({ ...base, kind: 'running' })).toEqual({ ...base, kind: 'running', message: '' });
+    expect(parseLiveStatus({ ...base, kind: 'running', line: 3, message: 'x' })).toEqual({ ...base, kind: 'running', message: '' });
+  });
 });

@@ -41,7 +41,8 @@ function withKp(text: string, kp: string): string {
 }
 
 const reportsOf = (uri: string) => server.notifications<LiveReportParams>('loopwright/liveReport').filter((p) => p.uri === uri);
-const statusesOf = (uri: string) => server.notifications<LiveStatusParams>('loopwright/liveStatus').filter((p) => p.uri === uri);
+// the errors only: a run that takes longer than LIVE_RUNNING_NOTICE_MS also says it is running
+const statusesOf = (uri: string) => server.notifications<LiveStatusParams>('loopwright/liveStatus').filter((p) => p.uri === uri && p.kind === 'error');
 const tilt = (r: LoopRunReport) => r.runs[0].signals['Boom.tilt'];
 const kpKnob = (r: LoopRunReport) => r.params?.find((k) => k.name === 'Steady.kp');
 
@@ -124,7 +125,7 @@ describe('live runs', () => {
     expect(broken).not.toBe(BOOM);
     const line = broken.split('\n').findIndex((l) => l.includes('kx*s')) + 1;
     const v2 = setText(uri, broken);
-    const status = await server.notificationWhere<LiveStatusParams>('loopwright/liveStatus', (p) => p.uri === uri && p.version === v2);
+    const status = await server.notificationWhere<LiveStatusParams>('loopwright/liveStatus', (p) => p.uri === uri && p.version === v2 && p.kind === 'error');
     expect(status).toMatchObject({ loop: 'Upright', kind: 'error', line });
     expect(status.message).toMatch(/LW201/);
     expect(status.message).toMatch(/kx/);
@@ -143,7 +144,7 @@ describe('live runs', () => {
     const broken = BOOM.replace('simulate 8 [s]', 'simulate 8 [s');
     const line = broken.split('\n').findIndex((l) => l.includes('simulate 8 [s')) + 1;
     const v2 = setText(uri, broken);
-    const status = await server.notificationWhere<LiveStatusParams>('loopwright/liveStatus', (p) => p.uri === uri && p.version === v2);
+    const status = await server.notificationWhere<LiveStatusParams>('loopwright/liveStatus', (p) => p.uri === uri && p.version === v2 && p.kind === 'error');
     expect(status.message).toMatch(/^LW1\d\d /);
     expect(status.line).toBeGreaterThanOrEqual(line);
     expect(status.line).toBeLessThanOrEqual(line + 1);
