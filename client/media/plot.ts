@@ -203,7 +203,11 @@ class App {
     s.dataset.kind = kind;
     document.body.classList.toggle('lw-running', kind === 'running');
     if (kind === 'idle') s.textContent = '';
-    else if (kind === 'running') s.textContent = message ? `Running… ${message}` : 'Running…';
+    else if (kind === 'running') {
+      s.textContent = message ? `Running… ${message}` : 'Running…';
+      // a banner names why an earlier version was not run; a later one is running now
+      this.setStale(null);
+    }
     else {
       s.textContent = `${line ? `Line ${line}: ` : ''}${message ?? 'The run failed.'}`;
       this.setStale(`Not re-run: ${line ? `line ${line}: ` : ''}${message ?? 'the run failed.'}`);

@@ -49,7 +49,7 @@ export function watchLiveRuns(services: CommandServices): vscode.Disposable {
       if (!p) return;
       const panel = panels.get(p);
       if (!panel || !liveEnabled(p.uri) || outdated(p.uri, p.version)) return;
-      if (p.kind === 'running') panel.status('running', 'after the edit');
+      if (p.kind === 'running') panel.status('running');
       else panel.status('error', p.message, p.line);
     }),
   ];

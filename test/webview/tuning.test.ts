@@ -331,7 +331,7 @@ group('live updates', { timeout: 180_000 }, () => {
     await clean();
   });
 
-  test('an error status keeps the last plot under a quiet banner; the next good report clears it', async () => {
+  test('an error status keeps the last plot under a quiet banner; a later run going on or the next good report clears it', async () => {
     const { page, clean } = await openPage();
     await sendReport(page, tunedReport());
     const before = await describe(page);
@@ -345,6 +345,13 @@ group('live updates', { timeout: 180_000 }, () => {
     expect(await drawCount(page)).toBe(n);
     expect((await countPixels(page, 0, '#1e1e1e', { tol: 3, not: true })).count).toBeGreaterThan(500);
     await page.screenshot({ path: join(OUT, 'tuning-stale-dark.png'), fullPage: true });
+    // a re-run of a later version is going on: the banner named an error that is gone
+    await send(page, { type: 'status', kind: 'running' });
+    await expect.poll(() => banner.isVisible()).toBe(false);
+    expect(await page.locator('.lw-status').textContent()).toBe('Running…');
+    expect((await describe(page)).panels.map((p) => p.series.length)).toEqual(before.panels.map((p) => p.series.length));
+    await send(page, { type: 'status', kind: 'error', message: "unknown name 'kq'", line: 12 });
+    await expect.poll(() => banner.isVisible()).toBe(true);
     await sendReport(page, tunedReport({ zeta: 0.5 }));
     expect(await banner.isVisible()).toBe(false);
     expect(((await describe(page)) as any).stale).toBeNull();
