@@ -104,12 +104,12 @@ class RunDriver {
    */
   out = new Float64Array(0);
   private outPoints = 0;
-  /** Traced index of each shown signal, in order, with its display scale and offset. */
+  /** Traced index of each shown signal, in order. */
   readonly shownJ: Int32Array;
-  private readonly shownScale: Float64Array;
-  private readonly shownOffset: Float64Array;
-  /** Every shown signal is shown in SI (scale 1, offset 0): written as it is. */
-  private readonly plainShown: boolean;
+  /** Writes the shown signals of a traced-value buffer, in display units, one row of `stride` apart from `at`. */
+  private readonly putShown: UnrolledCopy;
+  /** Writes a traced-value buffer's row values (rowJ) into the merged samples at m, rows `cap` apart. */
+  private readonly putRows: UnrolledCopy;
   // Samples for the metrics, merged in time order as the run goes: every grid point and every
   // accepted step's end (a step end on a grid time is not repeated). `my` holds one row of
   // `mCap` per distinct traced signal (a signal that repeats another, tracedSameAs, reads the
@@ -150,9 +150,8 @@ class RunDriver {
     this.rowJ = Int32Array.from(rowJ);
     const shown = c.traced.flatMap((tr, j) => (tr.shown ? [j] : []));
     this.shownJ = Int32Array.from(shown);
-    this.shownScale = Float64Array.from(shown, (j) => c.traced[j].scale);
-    this.shownOffset = Float64Array.from(shown, (j) => c.traced[j].offset);
-    this.plainShown = shown.every((j) => c.traced[j].offset === 0 && c.traced[j].scale === 1);
+    this.putRows = unrolledCopy(rowJ);
+    this.putShown = unrolledCopy(shown, Float64Array.from(shown, (j) => c.traced[j].offset), Float64Array.from(shown, (j) => c.traced[j].scale));
     this.pre = new Float64Array(nLim);
     this.lo = new Float64Array(nLim);
     this.hi = new Float64Array(nLim);
@@ -263,9 +262,9 @@ class RunDriver {
 
   private appendSample(t: number, tr: Float64Array): void {
     if (this.nMerged === this.mCap) this.growSamples();
-    const m = this.nMerged++, cap = this.mCap, y = this.my, rowJ = this.rowJ;
+    const m = this.nMerged++;
     this.mt[m] = t;
-    for (let r = 0, o = m; r < rowJ.length; r++, o += cap) y[o] = tr[rowJ[r]];
+    this.putRows(tr, this.my, m, this.mCap);
   }
 
   /** A step end (or the values just after a breakpoint); skipped when a grid point has this time. */
@@ -280,14 +279,29 @@ class RunDriver {
   writeGrid(i: number, tr: Float64Array): void {
     this.appendSample(this.gridT[i], tr);
     this.lastWasGrid = true;
-    const out = this.out, shownJ = this.shownJ, points = this.outPoints, nShown = shownJ.length;
-    if (this.plainShown) for (let r = 0, o = points + i; r < nShown; r++, o += points) out[o] = tr[shownJ[r]];
-    else {
-      const off = this.shownOffset, scale = this.shownScale;
-      for (let r = 0, o = points + i; r < nShown; r++, o += points) out[o] = (tr[shownJ[r]] - off[r]) / scale[r];
-    }
+    this.putShown(tr, this.out, this.outPoints + i, this.outPoints);
   }
   private lastWasGrid = false;
+}
+
+/** dst[at + r·stride] = (src[from[r]] − offset[r]) / scale[r] for every r. */
+type UnrolledCopy = (src: Float64Array, dst: Float64Array, at: number, stride: number) => void;
+
+/**
+ * The copy of a few chosen entries of a traced-value buffer, written out one statement per entry
+ * (a loop over index arrays costs more than the copy for the three or four signals of a loop, and
+ * it runs at every grid point and step end). The source holds only integer literals and, for
+ * signals shown in another unit than SI, reads of the offset and scale arrays: no user text.
+ */
+function unrolledCopy(from: ArrayLike<number>, offset?: Float64Array, scale?: Float64Array): UnrolledCopy {
+  const lines: string[] = [];
+  for (let r = 0; r < from.length; r++) {
+    const j = from[r] | 0;
+    const v = offset && scale && (offset[r] !== 0 || scale[r] !== 1) ? `(src[${j}] - off[${r}]) / sc[${r}]` : `src[${j}]`;
+    lines.push(`dst[at${r ? ` + ${r} * stride` : ''}] = ${v};`);
+  }
+  const make = new Function('off', 'sc', `"use strict"; return function (src, dst, at, stride) {\n${lines.join('\n')}\n};`) as (off?: Float64Array, sc?: Float64Array) => UnrolledCopy;
+  return make(offset, scale);
 }
 
 function sameValues(a: Float64Array, b: Float64Array): boolean {
@@ -533,7 +547,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
       }
     }
     if (!deferB) d.recordSample(b, trBuf);
-    trPrev.set(trBuf);
+    for (let j = 0; j < nTr; j++) trPrev[j] = trBuf[j];
     noteTail(b, xb);
   };
   /**
@@ -555,7 +569,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
       nextGrid++;
     }
     d.recordSample(ts, trBuf);
-    trPrev.set(trBuf);
+    for (let j = 0; j < nTr; j++) trPrev[j] = trBuf[j];
   };
   const trOne = d.trOne;
   const timeDep = c.tracedTimeDependent;
@@ -685,7 +699,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   if (!error) {
     d.writeGrid(0, trBuf);
     nextGrid = 1;
-    trPrev.set(trBuf);
+    for (let j = 0; j < nTr; j++) trPrev[j] = trBuf[j];
     noteTail(0, x);
   }
 
