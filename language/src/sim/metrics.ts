@@ -156,16 +156,18 @@ export function displayMetricsOf(t: ArrayLike<number>, y: Float64Array, n: numbe
   const initial = v[0], final = v[n - 1];
   const delta = Math.abs(final - initial);
   const dir = Math.sign(final - initial);
-  let excursion = 0, peak = 0, worst = 0;
-  for (let i = 0; i < n; i++) {
+  // The largest |y − initial|, the largest |y| and the largest overshoot past final all follow
+  // from the smallest and largest sample: rounding is monotone, so max(hi − initial, initial − lo)
+  // is exactly the largest of the |y − initial|, and so on. A NaN sample makes all three NaN.
+  let lo = initial, hi = initial;
+  for (let i = 1; i < n; i++) {
     const vi = v[i];
-    const e = Math.abs(vi - initial);
-    if (e > excursion || e !== e) excursion = Math.max(excursion, e);
-    const a = Math.abs(vi);
-    if (a > peak || a !== a) peak = Math.max(peak, a);
-    const w = dir * (vi - final);
-    if (w > worst || w !== w) worst = Math.max(worst, w);
+    lo = Math.min(lo, vi);
+    hi = Math.max(hi, vi);
   }
+  const excursion = Math.max(hi - initial, initial - lo);
+  const peak = Math.max(hi, -lo);
+  const worst = dir > 0 ? hi - final : dir < 0 ? final - lo : hi === hi && lo === lo ? 0 : NaN;
   const still = !(delta > STILL * excursion) || !(delta > 0);
   const iae = iaeSI / sc;
   if (still) return { initial, final, peak, rise: null, overshoot: null, settling: null, iae };
@@ -324,9 +326,20 @@ function compare(op: string, a: number, b: number): boolean {
   }
 }
 
+/** Per measured argument: the signal name it refers to (the expression belongs to one document). */
+const argNames = new WeakMap<Expr, string>();
+
 function samplesOf(c: Compiled, d: ExpectData, e: Expr): { s: Samples; j: number } {
-  const name = signalName(e, c.text);
-  const j = d.traced.findIndex((t) => t.name === name);
+  let name = argNames.get(e);
+  if (name === undefined) {
+    name = signalName(e, c.text);
+    argNames.set(e, name);
+  }
+  let j = -1;
+  for (let q = 0; q < d.traced.length; q++) if (d.traced[q].name === name) {
+    j = q;
+    break;
+  }
   if (j < 0) throw new ExpectError(`${name} is not recorded in this run`);
   return { s: { t: d.t, y: d.y[j] }, j };
 }
@@ -380,6 +393,26 @@ function value(c: Compiled, d: ExpectData, e: Expr): number {
   }
 }
 
+/** Per band expression of a `settling` call: relative (a pure number) or absolute, and its value. */
+const bands = new WeakMap<Compiled, Map<Expr, { relative: boolean; bv: number }>>();
+
+function bandOf(c: Compiled, band: Expr): { relative: boolean; bv: number } {
+  let m = bands.get(c);
+  if (!m) {
+    m = new Map();
+    bands.set(c, m);
+  }
+  let b = m.get(band);
+  if (!b) {
+    const relative = band.kind === 'number' || (band.kind === 'quantity' && isPureNumberUnit(band.unit.text));
+    // an absolute band is a width: the offset of its unit does not apply (2 [degC] is 2 K wide)
+    const bv = constantOf(c, band) - (!relative && band.kind === 'quantity' ? displayUnit(band.unit.text).offset : 0);
+    b = { relative, bv };
+    m.set(band, b);
+  }
+  return b;
+}
+
 function metricValue(c: Compiled, d: ExpectData, name: string, args: Expr[]): number {
   if (name === 'saturated') {
     const a = args[0];
@@ -410,9 +443,7 @@ function metricValue(c: Compiled, d: ExpectData, name: string, args: Expr[]): nu
     case 'settling': {
       const band = args[1];
       if (!band) throw new ExpectError('settling needs a band');
-      const relative = band.kind === 'number' || (band.kind === 'quantity' && isPureNumberUnit(band.unit.text));
-      // an absolute band is a width: the offset of its unit does not apply (2 [degC] is 2 K wide)
-      const bv = constantOf(c, band) - (!relative && band.kind === 'quantity' ? displayUnit(band.unit.text).offset : 0);
+      const { relative, bv } = bandOf(c, band);
       const change = relative ? changeOf(s) : undefined;
       const w = change ? bv * change.delta : bv; // bandWidth, with the change read once
       if (change && change.still) throw new ExpectError(`${nameOf()} does not change, so a relative band has no width`);
