@@ -159,15 +159,25 @@ export function displayMetricsOf(t: ArrayLike<number>, y: Float64Array, n: numbe
   // The largest |y − initial|, the largest |y| and the largest overshoot past final all follow
   // from the smallest and largest sample: rounding is monotone, so max(hi − initial, initial − lo)
   // is exactly the largest of the |y − initial|, and so on. A NaN sample makes all three NaN.
+  // (Plain comparisons: a new extreme is rare, so the branches are well predicted; a sample that
+  // is NaN fails all of them and is caught last. Math.max(0, …) turns a −0 into the 0 that the
+  // definition gives.)
   let lo = initial, hi = initial;
-  for (let i = 1; i < n; i++) {
-    const vi = v[i];
-    lo = Math.min(lo, vi);
-    hi = Math.max(hi, vi);
+  if (initial !== initial) hi = NaN;
+  else {
+    for (let i = 1; i < n; i++) {
+      const vi = v[i];
+      if (vi < lo) lo = vi;
+      else if (vi > hi) hi = vi;
+      else if (vi !== vi) {
+        lo = hi = NaN;
+        break;
+      }
+    }
   }
   const excursion = Math.max(hi - initial, initial - lo);
   const peak = Math.max(hi, -lo);
-  const worst = dir > 0 ? hi - final : dir < 0 ? final - lo : hi === hi && lo === lo ? 0 : NaN;
+  const worst = dir > 0 ? Math.max(0, hi - final) : dir < 0 ? Math.max(0, final - lo) : hi === hi && lo === lo ? 0 : NaN;
   const still = !(delta > STILL * excursion) || !(delta > 0);
   const iae = iaeSI / sc;
   if (still) return { initial, final, peak, rise: null, overshoot: null, settling: null, iae };
