@@ -508,9 +508,12 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
   const off = d.off;
 
   // ---- one interval [a, b] of a step, with its dense output ----
-  const processInterval = (view: StepView, a: number, b: number, xb: Float64Array) => {
-    // grid points in (a, b]; one exactly on a breakpoint or sample instant waits for the values after it
-    const deferB = b === segmentStop && b < tEnd;
+  /**
+   * Grid points in (a, b] of a step; one exactly on a breakpoint or sample instant waits for the
+   * values after it. (Its own function, apart from the IAE of processInterval, so that the
+   * compiler inlines the dense output, the traced values and the writes into this loop.)
+   */
+  const gridPoints = (view: StepView, b: number, xb: Float64Array, deferB: boolean) => {
     while (nextGrid < points && gridT[nextGrid] <= b) {
       const tg = gridT[nextGrid];
       if (deferB && tg >= b) break;
@@ -523,6 +526,10 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
       d.writeGrid(nextGrid, trBuf);
       nextGrid++;
     }
+  };
+  const processInterval = (view: StepView, a: number, b: number, xb: Float64Array) => {
+    const deferB = b === segmentStop && b < tEnd;
+    if (nextGrid < points && gridT[nextGrid] <= b) gridPoints(view, b, xb, deferB);
     // IAE by 3-point Gauss–Legendre on the dense output; split where a signal changes sign
     const h = b - a;
     ev.traced(tc(b), xb, trBuf);
