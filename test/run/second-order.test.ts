@@ -95,4 +95,20 @@ describe('IAE on the dense output', () => {
     expect(run.error).toBeUndefined();
     expect(Math.abs(run.metrics['Spring.out'].iae - 4)).toBeLessThan(1e-7);
   });
+
+  it('∫|cos³ 2t| over two periods is 8/3: a signal not linear in the states, cut inside steps (calculus)', () => {
+    // The same oscillator with out = x³: ∫₀^{2π}|cos 2t|³ dt = 8 · ∫₀^{π/4} cos³ 2t dt
+    // = 4 · ∫₀^{π/2} cos³ u du = 4 · 2/3. Within a step the cut and the pieces are taken on the
+    // quartic through the step's five samples of x³, which is not the dense output of x cubed.
+    const c = compile(`plant Spring { state x [1] = 1
+      state v [1/s]
+      output out [1] = x^3
+      x' = v
+      v' = -4 [1/s^2] * x }
+      loop Swing { simulate 6.283185307179586 [s] { tolerance = 1e-9, points = 5 }
+        show Spring.out }`);
+    const [run] = simulate(c);
+    expect(run.error).toBeUndefined();
+    expect(Math.abs(run.metrics['Spring.out'].iae - 8 / 3)).toBeLessThan(1e-7);
+  });
 });
