@@ -1,13 +1,14 @@
 // The run driver computes a signal's metrics in one pass over its merged samples
-// (displayMetricsOf); the metrics module also has them one definition at a time, as LANGUAGE.md
-// §4.3 words them (displayMetrics: convert to display values, then change, peak, rise,
-// overshoot and settling each on their own). The two must agree exactly, for any samples: with
-// ties, negative and mixed signs, signals that end where they start, units with an offset
-// (degC) or a scale (mm), and samples that are not finite.
+// (displayMetricsOf), and an expect the change of its signal in one pass too (changeFast); the
+// metrics module also has them one definition at a time, as LANGUAGE.md §4.3 words them
+// (displayMetrics: convert to display values, then change, peak, rise, overshoot and settling
+// each on their own). They must agree exactly, for any samples: with ties, negative and mixed
+// signs, signals that end where they start, units with an offset (degC) or a scale (mm), and
+// samples that are not finite.
 
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { displayMetrics, displayMetricsOf } from '../../language/src/sim/metrics';
+import { changeFast, changeOf, displayMetrics, displayMetricsOf } from '../../language/src/sim/metrics';
 
 const value = fc.oneof(
   { weight: 8, arbitrary: fc.double({ min: -1e3, max: 1e3, noNaN: true }) },
@@ -26,6 +27,16 @@ describe('one-pass metrics (displayMetricsOf) against the metrics one at a time 
         const one = displayMetricsOf(t, y, ys.length, tr, iae);
         const ref = displayMetrics({ t, y: ys }, tr, iae);
         expect(one).toEqual(ref);
+      }),
+      { numRuns: 3000 },
+    );
+  });
+
+  it('the change of a signal in one pass (changeFast, for expects) is changeOf exactly', () => {
+    fc.assert(
+      fc.property(fc.array(value, { minLength: 0, maxLength: 40 }), (ys) => {
+        const s = { t: ys.map((_, i) => i), y: ys };
+        expect(changeFast(s)).toEqual(changeOf(s));
       }),
       { numRuns: 3000 },
     );

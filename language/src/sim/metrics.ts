@@ -157,13 +157,34 @@ export function displayMetricsOf(t: ArrayLike<number>, y: Float64Array, n: numbe
   const delta = Math.abs(final - initial);
   const dir = Math.sign(final - initial);
   // The largest |y − initial|, the largest |y| and the largest overshoot past final all follow
-  // from the smallest and largest sample: rounding is monotone, so max(hi − initial, initial − lo)
-  // is exactly the largest of the |y − initial|, and so on. A NaN sample makes all three NaN.
-  // (Plain comparisons: a new extreme is rare, so the branches are well predicted; a sample that
-  // is NaN fails all of them and is caught last. Math.max(0, …) turns a −0 into the 0 that the
-  // definition gives.)
-  let lo = initial, hi = initial;
-  if (initial !== initial) hi = NaN;
+  // from the smallest and largest sample (see extremes). Math.max(0, …) turns a −0 into the 0
+  // that the definition gives.
+  extremes(v, n);
+  const lo = EXT.lo, hi = EXT.hi;
+  const excursion = Math.max(hi - initial, initial - lo);
+  const peak = Math.max(hi, -lo);
+  const worst = dir > 0 ? Math.max(0, hi - final) : dir < 0 ? Math.max(0, final - lo) : hi === hi && lo === lo ? 0 : NaN;
+  const still = !(delta > STILL * excursion) || !(delta > 0);
+  const iae = iaeSI / sc;
+  if (still) return { initial, final, peak, rise: null, overshoot: null, settling: null, iae };
+  const t10 = crossingOf(t, v, n, initial + 0.1 * (final - initial), dir);
+  const t90 = crossingOf(t, v, n, initial + 0.9 * (final - initial), dir);
+  const rise = t10 === null || t90 === null ? null : t90 - t10;
+  return { initial, final, peak, rise, overshoot: worst / delta, settling: settlingOfFirst(t, v, n, band * delta), iae };
+}
+
+/** The smallest and largest of the first n samples, as left by extremes (one record, reused). */
+const EXT = { lo: 0, hi: 0 };
+
+/**
+ * The smallest and largest of v[0..n) into EXT; both NaN when a sample is NaN. Rounding is
+ * monotone, so max(hi − y0, y0 − lo) is exactly the largest of the |y − y0|, and max(hi, −lo)
+ * the largest |y|. Plain comparisons: a new extreme is rare, so the branches are well
+ * predicted; a NaN sample fails all of them and is caught last.
+ */
+function extremes(v: ArrayLike<number>, n: number): void {
+  let lo = v[0], hi = v[0];
+  if (lo !== lo) hi = NaN;
   else {
     for (let i = 1; i < n; i++) {
       const vi = v[i];
@@ -175,16 +196,21 @@ export function displayMetricsOf(t: ArrayLike<number>, y: Float64Array, n: numbe
       }
     }
   }
-  const excursion = Math.max(hi - initial, initial - lo);
-  const peak = Math.max(hi, -lo);
-  const worst = dir > 0 ? Math.max(0, hi - final) : dir < 0 ? Math.max(0, final - lo) : hi === hi && lo === lo ? 0 : NaN;
-  const still = !(delta > STILL * excursion) || !(delta > 0);
-  const iae = iaeSI / sc;
-  if (still) return { initial, final, peak, rise: null, overshoot: null, settling: null, iae };
-  const t10 = crossingOf(t, v, n, initial + 0.1 * (final - initial), dir);
-  const t90 = crossingOf(t, v, n, initial + 0.9 * (final - initial), dir);
-  const rise = t10 === null || t90 === null ? null : t90 - t10;
-  return { initial, final, peak, rise, overshoot: worst / delta, settling: settlingOfFirst(t, v, n, band * delta), iae };
+  EXT.lo = lo;
+  EXT.hi = hi;
+}
+
+/** changeOf in one pass over the extremes: the same values (test/run/metrics-onepass.test.ts). */
+export function changeFast(s: Samples): { initial: number; final: number; delta: number; still: boolean } {
+  const n = s.y.length;
+  const initial = s.y[0], final = s.y[n - 1];
+  const delta = Math.abs(final - initial);
+  let excursion = 0;
+  if (n > 0) {
+    extremes(s.y, n);
+    excursion = Math.max(0, EXT.hi - initial, initial - EXT.lo);
+  }
+  return { initial, final, delta, still: !(delta > STILL * excursion) || !(delta > 0) };
 }
 
 /** firstCrossing over the first n samples. */
@@ -444,9 +470,9 @@ function metricValue(c: Compiled, d: ExpectData, name: string, args: Expr[]): nu
     case 'peak':
       return peakSI(s, d.traced[j]);
     case 'rise':
-      return need(riseOf(s), 'rise time');
+      return need(riseOf(s, changeFast(s)), 'rise time');
     case 'overshoot':
-      return need(overshootOf(s), 'overshoot');
+      return need(overshootOf(s, changeFast(s)), 'overshoot');
     case 'iae':
       // ∫|y − offset| dt: for an offset unit (degC) the integral of the shown value, in K·s
       return d.iae[j];
@@ -454,7 +480,7 @@ function metricValue(c: Compiled, d: ExpectData, name: string, args: Expr[]): nu
       const band = args[1];
       if (!band) throw new ExpectError('settling needs a band');
       const { relative, bv } = bandOf(c, band);
-      const change = relative ? changeOf(s) : undefined;
+      const change = relative ? changeFast(s) : undefined;
       const w = change ? bv * change.delta : bv; // bandWidth, with the change read once
       if (change && change.still) throw new ExpectError(`${nameOf()} does not change, so a relative band has no width`);
       return need(settlingOf(s, w), 'settling time');
