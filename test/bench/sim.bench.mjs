@@ -148,7 +148,9 @@ const hand = () => {
 // switches by events located on the dense output (Illinois regula falsi, the run restarts at the
 // corner in the new mode) and IAE is split where a signal changes sign within a step (roots to
 // 1e-8 of their bracket; no split where the step's whole contribution is below 0.01·rtol of the
-// integral so far), by the same rules as the pipeline
+// integral so far), by the same rules as the pipeline. It finds the roots and integrates the
+// pieces on the dense output, as a straightforward hand-written run would; the pipeline takes
+// both from the quartic through the step's five samples, with no further evaluations
 let modeH = 0; // 0 free, 1 at +4, -1 at -4
 function fEv(t, x, dx) {
   const tilt = x[0], rate = x[1], xf = x[2];
