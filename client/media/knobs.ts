@@ -5,12 +5,19 @@
 //
 // Span bookkeeping: the host applies edits in the order it receives them, and every edit moves
 // the text after it. The page therefore shifts its own copies of the spans by each edit's change
-// in length. A report's spans are adopted only once the report reflects the page's last edit (its
-// `text` of each edited param equals the last text posted) or after PENDING_MS without an edit,
-// so a report computed from an older document never puts a stale span under the next edit. A
-// report held back for coming sooner than that is adopted when PENDING_MS have passed, unless a
-// newer report or edit came meanwhile (an undo in the editor brings back text the page never
-// posted: its report must still reach the knobs).
+// in length, and adopts a report's spans only when the report was computed from a document that
+// already holds the page's edits, so a report of an older document never puts a stale span under
+// the next edit:
+// - A report with its document version (live runs): the host answers every edit with `edited`
+//   and the version it left. Such a report is adopted when no edit is waiting for its answer and
+//   its version is at least the last answered one; it is held back while an edit is waiting
+//   (and decided when the answer comes), and dropped when it is older (a newer one is on its
+//   way). An undo in the editor makes a newer version, so its report is adopted at once, text
+//   the page never posted included. An edit left unanswered for ANSWER_MS stops counting.
+// - A report without a version: adopted once it reflects the page's last edit (its `text` of
+//   each edited param equals the last text posted) or after PENDING_MS without an edit; one
+//   held back for coming sooner than that is adopted when PENDING_MS have passed, unless a
+//   newer report or edit came meanwhile.
 
 import type { Span } from '../../language/src/diagnostics';
 import type { ParamKnob } from '../../language/src/protocol';
@@ -21,6 +28,8 @@ import { formatLike, knobRange, parseNumberText, positionToValue, SLIDER_STEPS, 
 export type EditParam = { type: 'editParam'; name: string; span: Span; newText: string; final: boolean };
 
 const PENDING_MS = 1500;
+/** How long an edit waits for the host's `edited` before it no longer holds reports back. */
+const ANSWER_MS = 5000;
 
 interface Knob {
   p: ParamKnob;
@@ -55,6 +64,12 @@ export class Knobs {
   /** A report held back by the pending edits, and the timer that adopts it later. */
   private heldBack: ParamKnob[] | undefined;
   private heldTimer: ReturnType<typeof setTimeout> | undefined;
+  /** Edits posted that the host has not answered yet (`edited`). */
+  private unanswered = 0;
+  /** The document version the host's last answer left. */
+  private answeredVersion = -1;
+  /** A report with a version, held back while an edit waits for its answer. */
+  private heldVersioned: { params: ParamKnob[]; version: number } | undefined;
   private readonly main: HTMLElement;
   private readonly plant: HTMLElement;
   private readonly plantToggle: HTMLButtonElement;
@@ -87,6 +102,11 @@ export class Knobs {
     return this.knobs.length;
   }
 
+  /** Edits posted that the host has not answered yet. */
+  get waiting(): number {
+    return this.unanswered;
+  }
+
   private syncPlantToggle(): void {
     const n = this.knobs.filter((k) => k.p.owner === 'plant').length;
     this.plantToggle.hidden = n === 0;
@@ -95,9 +115,13 @@ export class Knobs {
     this.plant.hidden = !this.showPlant || n === 0;
   }
 
-  /** Shows the params of a report; `sameLoop` keeps the knobs (and focus) where it can. */
-  update(params: ParamKnob[], sameLoop: boolean): void {
+  /**
+   * Shows the params of a report; `sameLoop` keeps the knobs (and focus) where it can. `version`:
+   * the document version the report was computed from, when the host sent it.
+   */
+  update(params: ParamKnob[], sameLoop: boolean, version?: number): void {
     this.heldBack = undefined;
+    this.heldVersioned = undefined;
     if (this.heldTimer !== undefined) clearTimeout(this.heldTimer);
     this.heldTimer = undefined;
     const sameSet = sameLoop && params.length === this.knobs.length && params.every((p, i) => p.name === this.knobs[i].p.name && p.owner === this.knobs[i].p.owner);
@@ -107,6 +131,19 @@ export class Knobs {
       this.knobs = params.map((p) => this.build({ ...p, span: { ...p.span } }));
       this.main.replaceChildren(...this.knobs.filter((k) => k.p.owner !== 'plant').map((k) => k.row));
       this.plant.replaceChildren(...this.knobs.filter((k) => k.p.owner === 'plant').map((k) => k.row));
+    } else if (version !== undefined) {
+      if (this.unanswered > 0 && performance.now() - this.lastEdit > ANSWER_MS) this.unanswered = 0;
+      if (this.unanswered > 0) {
+        const held = (this.heldVersioned = { params, version });
+        // decided by the answer; should none come, once the edit no longer counts
+        this.heldTimer = setTimeout(() => {
+          this.heldTimer = undefined;
+          if (this.heldVersioned === held) this.update(held.params, true, held.version);
+        }, ANSWER_MS - (performance.now() - this.lastEdit) + 50);
+      } else if (version >= this.answeredVersion) {
+        this.pending.clear();
+        this.adopt(params);
+      }
     } else {
       const current = [...this.pending].every(([name, text]) => params.find((p) => p.name === name)?.text === text);
       const since = performance.now() - this.lastEdit;
@@ -121,16 +158,28 @@ export class Knobs {
           if (held) this.update(held, true);
         }, PENDING_MS - since + 50);
       }
-      params.forEach((p, i) => {
-        const k = this.knobs[i];
-        if (!adopt) return;
-        k.p = { ...p, span: { ...p.span } };
-        k.lastPosted = null;
-        if (!k.dragging && document.activeElement !== k.field) this.anchor(k, p.value, p.text);
-      });
+      if (adopt) this.adopt(params);
     }
     this.o.box.hidden = this.knobs.length === 0;
     this.syncPlantToggle();
+  }
+
+  /** The report's params (same knobs, in order) become the knobs' own: spans, texts, values. */
+  private adopt(params: ParamKnob[]): void {
+    params.forEach((p, i) => {
+      const k = this.knobs[i];
+      k.p = { ...p, span: { ...p.span } };
+      k.lastPosted = null;
+      if (!k.dragging && document.activeElement !== k.field) this.anchor(k, p.value, p.text);
+    });
+  }
+
+  /** The host's answer to the oldest unanswered edit: the document is now at `version`. */
+  edited(version: number): void {
+    this.unanswered = Math.max(0, this.unanswered - 1);
+    this.answeredVersion = Math.max(this.answeredVersion, version);
+    const held = this.heldVersioned;
+    if (this.unanswered === 0 && held) this.update(held.params, true, held.version);
   }
 
   private build(p: ParamKnob): Knob {
@@ -266,6 +315,7 @@ export class Knobs {
     k.lastPosted = numberText;
     k.dirty = !final;
     this.pending.set(k.p.name, numberText);
+    this.unanswered++;
     this.lastEdit = performance.now();
   }
 

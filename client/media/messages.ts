@@ -22,7 +22,13 @@ export type StatusKind = 'running' | 'idle' | 'error';
 
 /** Host → page. */
 export type HostToPage =
-  | { type: 'report'; report: LoopRunReport }
+  /** `version`: the document version the report was computed from, when the host knows it. */
+  | { type: 'report'; report: LoopRunReport; version?: number }
+  /**
+   * A knob edit the page posted has been dealt with, applied or dropped, in the order posted;
+   * the document is now at `version`. A report of an older version does not show it.
+   */
+  | { type: 'edited'; version: number }
   /** The colour theme changed: redraw with the current CSS variables. */
   | { type: 'theme' }
   /** `line` is 1-based, for errors that point into the document. */
@@ -59,6 +65,8 @@ export type Parsed<T> = { ok: true; value: T } | { ok: false; error: string };
 const isObject = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
 const isFiniteNumber = (v: unknown): v is number => typeof v === 'number' && Number.isFinite(v);
 
+const isVersion = (v: unknown): v is number => Number.isSafeInteger(v) && (v as number) >= 0;
+
 function describeType(v: unknown): string {
   if (v === null) return 'null';
   if (Array.isArray(v)) return 'an array';
@@ -71,8 +79,13 @@ export function parseHostMessage(data: unknown): Parsed<HostToPage> {
   switch (data.type) {
     case 'report': {
       const r = validateReport(data.report);
-      return r.ok ? { ok: true, value: { type: 'report', report: r.value } } : { ok: false, error: `report: ${r.error}` };
+      if (!r.ok) return { ok: false, error: `report: ${r.error}` };
+      if (data.version === undefined) return { ok: true, value: { type: 'report', report: r.value } };
+      if (!isVersion(data.version)) return { ok: false, error: `report: version must be a non-negative integer, got ${describeType(data.version)}` };
+      return { ok: true, value: { type: 'report', report: r.value, version: data.version } };
     }
+    case 'edited':
+      return isVersion(data.version) ? { ok: true, value: { type: 'edited', version: data.version } } : { ok: false, error: `edited: version must be a non-negative integer, got ${describeType(data.version)}` };
     case 'theme':
       return { ok: true, value: { type: 'theme' } };
     case 'status': {

@@ -115,6 +115,8 @@ class App {
   private legendKey = '';
   /** The last report shown was of this loop (knobs and pole map keep their state for it). */
   private shownLoop: string | null = null;
+  /** The document version the shown report was computed from, when the host sent it. */
+  private reportVersion: number | undefined;
 
   constructor(root: HTMLElement) {
     this.ui = buildLayout(root);
@@ -184,11 +186,15 @@ class App {
     switch (m.type) {
       case 'report': {
         const prev = this.state;
+        this.reportVersion = m.version;
         this.setStale(null);
         if (prev && sameLoop(prev.report, m.report)) this.update(m.report);
         else this.show({ report: m.report, zoom: null, hidden: { signals: [], runs: [] }, ...(prev?.showPlant ? { showPlant: true } : {}) });
         break;
       }
+      case 'edited':
+        this.knobs.edited(m.version);
+        break;
       case 'theme':
         this.redraw();
         break;
@@ -274,7 +280,7 @@ class App {
     // Shown before drawing, so that the pole map measures its real width.
     this.ui.side.hidden = (this.host.standalone || !report.params?.length) && !(report.poles && report.poles.closed.length + report.poles.open.length > 0);
     this.knobs.setShowPlant(!!this.state?.showPlant);
-    this.knobs.update(this.host.standalone ? [] : report.params ?? [], same);
+    this.knobs.update(this.host.standalone ? [] : report.params ?? [], same, this.reportVersion);
     this.poleMap.update(report.poles, this.theme, same);
     this.ui.side.hidden = this.knobs.count === 0 && !this.poleMap.any;
   }
@@ -397,6 +403,8 @@ class App {
       stale: this.ui.stale.hidden ? null : this.ui.stale.textContent,
       cursorIdx: this.plots?.cursorIdx() ?? null,
       knobs: this.knobs.describe(),
+      /** Knob edits the host has not answered yet. */
+      knobEditsWaiting: this.knobs.waiting,
       poles: this.poleMap.any ? this.poleMap.describe() : null,
       panels: (this.plots?.panels ?? []).map((p) => ({
         group: p.group,

@@ -41,7 +41,7 @@ export function watchLiveRuns(services: CommandServices): vscode.Disposable {
       }
       const panel = panels.get(p);
       if (!panel || !liveEnabled(p.uri) || outdated(p.uri, p.version)) return;
-      panel.show(p.report, panel.mode);
+      panel.show(p.report, panel.mode, p.version);
       panel.status('idle');
     }),
     server.handle(LiveStatusNotification, (raw) => {

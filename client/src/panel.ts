@@ -60,6 +60,7 @@ async function findLoopDocument(loop: string): Promise<string | undefined> {
 
 export class ReportPanel implements vscode.Disposable {
   report: LoopRunReport | undefined;
+  private reportVersion: number | undefined;
   mode: RunMode = 'simulate';
   private pageReady = false;
   private disposed = false;
@@ -99,9 +100,14 @@ export class ReportPanel implements vscode.Disposable {
     });
   }
 
-  /** Shows a report: at once if the page is ready, else when it says so. */
-  show(report: LoopRunReport, mode: RunMode): void {
+  /**
+   * Shows a report: at once if the page is ready, else when it says so. `version`: the document
+   * version it was computed from (live runs), so the page's knobs can tell whether it already
+   * holds their edits.
+   */
+  show(report: LoopRunReport, mode: RunMode, version?: number): void {
     this.report = report;
+    this.reportVersion = version;
     this.mode = mode;
     this.post();
   }
@@ -125,7 +131,13 @@ export class ReportPanel implements vscode.Disposable {
   }
 
   private post(): void {
-    if (this.report) this.send({ type: 'report', report: this.report });
+    if (this.report) this.send({ type: 'report', report: this.report, ...(this.reportVersion !== undefined ? { version: this.reportVersion } : {}) });
+  }
+
+  /** The version of the panel's document, when it is open. */
+  private documentVersion(): number | undefined {
+    const uri = this.documentUri.toString();
+    return vscode.workspace.textDocuments.find((d) => d.uri.toString() === uri)?.version;
   }
 
   private async receive(data: unknown): Promise<void> {
@@ -151,7 +163,13 @@ export class ReportPanel implements vscode.Disposable {
           this.host.log(`Plot panel of ${this.id.loop}: ${message.message}`);
           break;
         case 'editParam':
-          await this.host.editParam(this, message);
+          try {
+            await this.host.editParam(this, message);
+          } finally {
+            // applied or dropped: the page learns the version it left (see knobs.ts)
+            const version = this.documentVersion();
+            if (version !== undefined) this.send({ type: 'edited', version });
+          }
           break;
       }
     } catch (error) {

@@ -42,6 +42,17 @@ describe('report and message checks', () => {
     expect(parseHostMessage({ type: 'status', kind: 'error', message: 'm', line: 3 })).toEqual({ ok: true, value: { type: 'status', kind: 'error', message: 'm', line: 3 } });
     expect(parseHostMessage({ type: 'status', kind: 'error', line: 0 }).ok).toBe(false);
     expect(parseHostMessage([]).ok).toBe(false);
+    // a report may carry the document version it was computed from; knob edits are answered
+    expect(parseHostMessage({ type: 'edited', version: 7 })).toEqual({ ok: true, value: { type: 'edited', version: 7 } });
+    expect(parseHostMessage({ type: 'edited', version: -1 })).toEqual({ ok: false, error: 'edited: version must be a non-negative integer, got number -1' });
+    expect(parseHostMessage({ type: 'edited' }).ok).toBe(false);
+    const report = simulateReport();
+    const versioned = parseHostMessage({ type: 'report', report, version: 12 });
+    expect(versioned.ok && versioned.value.type === 'report' && versioned.value.version).toBe(12);
+    const plain = parseHostMessage({ type: 'report', report });
+    expect(plain.ok && plain.value.type === 'report' && 'version' in plain.value).toBe(false);
+    expect(parseHostMessage({ type: 'report', report, version: '12' })).toEqual({ ok: false, error: 'report: version must be a non-negative integer, got string "12"' });
+    expect(parseHostMessage({ type: 'edited', version: 1.5 }).ok).toBe(false);
     expect(parsePageMessage({ type: 'ready' })).toEqual({ ok: true, value: { type: 'ready' } });
     expect(parsePageMessage({ type: 'exportPng', dataUrl: 'javascript:alert(1)' }).ok).toBe(false);
     expect(parsePageMessage({ type: 'editParam', name: 'Steady.kp', span: { start: 4, end: 9 }, newText: '2.5', final: true })).toEqual({

@@ -48,6 +48,18 @@ async function edits(page: Page, from = 0): Promise<Edit[]> {
   return (await posted(page)).slice(from).filter((m): m is Edit => m.type === 'editParam');
 }
 
+/** Sends a report with the document version it was computed from, and waits until it is drawn. */
+async function sendReportAt(page: Page, report: unknown, version: number): Promise<void> {
+  const before = await drawCount(page);
+  await send(page, { type: 'report', report, version });
+  await waitForDrawAfter(page, before);
+}
+
+/** One knob as the page describes it. */
+async function knob(page: Page, name: string): Promise<{ value: number; text: string; span: { start: number; end: number } }> {
+  return ((await describe(page)) as any).knobs.find((k: any) => k.name === name);
+}
+
 /** 3 significant digits in fixed notation (the style of a literal typed with fewer). */
 function sig3(v: number): string {
   const r = Number(v.toPrecision(3));
@@ -135,6 +147,60 @@ group('knobs', { timeout: 180_000 }, () => {
     expect(await kpValue()).toBeCloseTo(stepped, 9);
     // no further report comes; the held-back one is adopted after the pending time
     await expect.poll(kpValue, { timeout: 5000, interval: 100 }).toBe(14);
+    await clean();
+  });
+
+  test('with versions, a report older than the answered edit is dropped, and the report of an undo is adopted at once', async () => {
+    const { page, clean } = await openPage();
+    await sendReportAt(page, tunedReport(), 1);
+    await page.locator('.lw-knob[data-param="Steady.kp"] input[type=range]').focus();
+    await page.keyboard.press('ArrowRight');
+    await expect.poll(async () => (await edits(page)).length).toBe(1);
+    const stepped = Number((await edits(page))[0].newText.split(' ')[0]);
+    await send(page, { type: 'edited', version: 2 });
+    // the run of version 1 ends late: it was computed before the edit, so it never reaches the
+    // knobs, not even after the 1.5 s that a report without a version would wait
+    await sendReportAt(page, tunedReport(), 1);
+    await page.waitForTimeout(1800);
+    expect(await knob(page, 'Steady.kp')).toMatchObject({ value: stepped });
+    // the editor undid the edit: version 3 holds the original text, which the page never posted
+    await sendReportAt(page, tunedReport(), 3);
+    expect(await knob(page, 'Steady.kp')).toMatchObject({ value: 14, text: '14', span: knobsOf()[2].span });
+    await clean();
+  });
+
+  test('with versions, a report that comes while an edit waits for its answer is decided by the answer', async () => {
+    const { page, clean } = await openPage();
+    await sendReportAt(page, tunedReport(), 1);
+    await page.locator('.lw-knob[data-param="Steady.kp"] input[type=range]').focus();
+    await page.keyboard.press('ArrowRight');
+    await expect.poll(async () => (await edits(page)).length).toBe(1);
+    const doc2 = applyEdits(DOCUMENT, await edits(page));
+    await page.keyboard.press('ArrowRight');
+    await expect.poll(async () => (await edits(page)).length).toBe(2);
+    const doc3 = applyEdits(DOCUMENT, await edits(page));
+    const stepped = Number((await edits(page))[1].newText.split(' ')[0]);
+    // the report of the first edit comes while both edits wait: held back
+    await sendReportAt(page, tunedReport({ doc: doc2 }), 2);
+    expect(((await describe(page)) as any).knobEditsWaiting).toBe(2);
+    await send(page, { type: 'edited', version: 2 });
+    expect(await knob(page, 'Steady.kp')).toMatchObject({ value: stepped });
+    expect(((await describe(page)) as any).knobEditsWaiting).toBe(1);
+    // the second answer: the held report is older than the document it left, so it is dropped
+    await send(page, { type: 'edited', version: 3 });
+    await expect.poll(async () => (await describe(page) as any).knobs.length).toBe(6);
+    expect(await knob(page, 'Steady.kp')).toMatchObject({ value: stepped, span: knobsOf(doc3)[2].span });
+    // a third step; before its answer the user types 15 in the editor (version 5): that report
+    // is held back while the edit waits, and adopted by the answer (version 4 ≤ 5)
+    await page.keyboard.press('ArrowRight');
+    await expect.poll(async () => (await edits(page)).length).toBe(3);
+    const typed = applyEdits(DOCUMENT, await edits(page)).replace(/kp {3}= [^\n]*/, 'kp   = 15 [N*m/rad]');
+    await sendReportAt(page, tunedReport({ doc: typed }), 5);
+    expect((await knob(page, 'Steady.kp')).value).not.toBe(15);
+    await send(page, { type: 'edited', version: 4 });
+    await expect.poll(async () => (await knob(page, 'Steady.kp')).value).toBe(15);
+    expect(await knob(page, 'Steady.kp')).toMatchObject({ text: '15', span: knobsOf(typed)[2].span });
+    expect(await knob(page, 'Steady.kd')).toMatchObject({ span: knobsOf(typed)[3].span });
     await clean();
   });
 
