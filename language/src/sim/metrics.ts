@@ -107,7 +107,10 @@ export function bandWidth(s: Samples, band: number, relative: boolean): number {
   return relative ? band * changeOf(s).delta : band;
 }
 
-export function rawMetrics(s: Samples, band = 0.02): RawMetrics {
+/** The settling band of a signal's metrics: 2 % of its change (LANGUAGE.md §4.3). */
+export const METRIC_BAND = 0.02;
+
+export function rawMetrics(s: Samples, band = METRIC_BAND): RawMetrics {
   const c = changeOf(s);
   return {
     initial: c.initial,
@@ -144,7 +147,7 @@ let displayBuf = new Float64Array(0);
  * pass gives the change, the peak and the overshoot (initial and final are known up front);
  * rise and settling read only as far as their crossings.
  */
-export function displayMetricsOf(t: ArrayLike<number>, y: Float64Array, n: number, tr: { scale: number; offset: number }, iaeSI: number, band = 0.02): RawMetrics & { iae: number } {
+export function displayMetricsOf(t: ArrayLike<number>, y: Float64Array, n: number, tr: { scale: number; offset: number }, iaeSI: number, band = METRIC_BAND): RawMetrics & { iae: number } {
   if (n === 0) return { ...rawMetrics({ t: [], y: [] }, band), iae: iaeSI / tr.scale };
   const off = tr.offset, sc = tr.scale;
   let v = y;
@@ -289,6 +292,12 @@ export interface ExpectData {
   atLimit: Array<Array<[number, number]>>;
   duration: number;
   complete: boolean;
+  /**
+   * Per traced signal, when its metrics were computed on these very samples (shown in SI):
+   * whether it changes, and its settling time for METRIC_BAND. An expect of settling for that
+   * band reads it instead of scanning the samples again.
+   */
+  settled?: Array<{ still: boolean; settling: number | null } | undefined>;
 }
 
 class ExpectError extends Error {}
@@ -480,6 +489,11 @@ function metricValue(c: Compiled, d: ExpectData, name: string, args: Expr[]): nu
       const band = args[1];
       if (!band) throw new ExpectError('settling needs a band');
       const { relative, bv } = bandOf(c, band);
+      const known = relative && bv === METRIC_BAND ? d.settled?.[j] : undefined;
+      if (known) {
+        if (known.still) throw new ExpectError(`${nameOf()} does not change, so a relative band has no width`);
+        return need(known.settling, 'settling time');
+      }
       const change = relative ? changeFast(s) : undefined;
       const w = change ? bv * change.delta : bv; // bandWidth, with the change read once
       if (change && change.still) throw new ExpectError(`${nameOf()} does not change, so a relative band has no width`);

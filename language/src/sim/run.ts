@@ -942,6 +942,8 @@ function assemble(
   const buf = d.out;
   const t = buf.subarray(0, points);
   let at = points;
+  // settling for the metrics' band of each row whose metrics are taken in SI, for the expects
+  const settledRow = spec.expects.length ? new Map<number, { still: boolean; settling: number | null }>() : undefined;
   for (let j = 0; j < nTr; j++) {
     const tr = traced[j];
     if (!tr.shown) continue;
@@ -949,6 +951,7 @@ function assemble(
     at += points;
     // metrics in the signal's display unit, read straight from the merged SI samples
     const m = displayMetricsOf(mt, my[j], nMerged, tr, d.iae[j]);
+    if (settledRow && tr.scale === 1 && tr.offset === 0) settledRow.set(d.rowOf[j], { still: m.overshoot === null, settling: m.settling });
     const sm: SignalMetrics = {
       initial: m.initial,
       final: m.final,
@@ -977,7 +980,8 @@ function assemble(
     dTail[q] = tail.maxDev[i];
   }
   const recovered = tail.complete && recovers(d0, dMax, dTail, tail.atol);
-  const expects = spec.expects.length ? evaluateExpects(c, spec, { traced, t: mt, y: my, iae: d.iae, atLimit, duration, complete: tail.complete }) : [];
+  const settled = settledRow && settledRow.size ? traced.map((_, j) => settledRow.get(d.rowOf[j])) : undefined;
+  const expects = spec.expects.length ? evaluateExpects(c, spec, { traced, t: mt, y: my, iae: d.iae, atLimit, duration, complete: tail.complete, settled }) : [];
   const result: SampledRun = {
     label: input.label,
     kind: input.kind,
