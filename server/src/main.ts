@@ -47,7 +47,7 @@ import { inlayHints } from './inlay';
 import { modelDiagnostics, operatingPointDiagnostics } from './layers';
 import { codeLenses } from './lens';
 import { prepareRename, rename } from './rename';
-import { runInWorker } from './runs';
+import { runInWorker, warmRunWorkers } from './runs';
 import { LiveRuns } from './live';
 import { LiveReportNotification, LiveStatusNotification, WatchNotification } from './live-protocol';
 import { LEGEND, semanticTokens } from './semantic';
@@ -181,7 +181,11 @@ connection.onNotification(
   guardNotification(WatchNotification, (p: unknown) => live.watch(p)),
 );
 
-documents.onDidOpen((e) => pushes.now(e.document.uri));
+documents.onDidOpen((e) => {
+  pushes.now(e.document.uri);
+  // a loop file is open: the first run will find a run worker started (see RunWorkers)
+  if (trusted) warmRunWorkers();
+});
 documents.onDidChangeContent((e) => {
   // onDidChangeContent also fires on open; the open handler has pushed already.
   if (e.document.version === store.peek(e.document.uri)?.version) return;

@@ -12,7 +12,19 @@ export interface RunJob {
   settings: { tolerance?: number; method?: string };
 }
 
-export type WorkerMessage =
+/** Server → worker: run one job. A worker takes one job at a time and stays for the next. */
+export interface JobMessage {
+  type: 'job';
+  /** Echoed in every message about this job. */
+  id: number;
+  job: RunJob;
+}
+
+/** What a job reports: progress, then its report or its error. */
+export type JobUpdate =
   | { type: 'progress'; percentage?: number; message: string }
   | { type: 'done'; report: LoopRunReport }
   | { type: 'error'; message: string; code?: string };
+
+/** Worker → server: a job's update with the job's id. */
+export type WorkerMessage = { id: number } & JobUpdate;

@@ -1,22 +1,21 @@
-// The run worker: analyses the text it is given, compiles the loop, runs what the mode asks for
-// (simulate: the nonlinear run; compare: with the linearized run; sweep: with one run per sweep
-// value), posts progress and the report. It runs in its own thread, so the server can terminate
-// it at any time (cancel, time budget).
+// The run worker: for each job it is sent, analyses the text, compiles the loop, runs what the
+// mode asks for (simulate: the nonlinear run; compare: with the linearized run; sweep: with one
+// run per sweep value), posts progress and the report. It runs in its own thread, so the server
+// can terminate it at any time (cancel, time budget); otherwise it stays for the next job, with
+// its code already compiled (see RunWorkers in runs.ts).
 
-import { parentPort, workerData } from 'node:worker_threads';
+import { parentPort } from 'node:worker_threads';
 import { analyze } from '../../language/src/analysis';
 import { compileForRun, reportFor } from '../../language/src/runs';
 import { linearRunner } from '../../language/src/linear/linear-run';
 import type { LoopRunReport } from '../../language/src/protocol';
 import type { IntegratorMethod } from '../../language/src/sim/solver';
 import { simulate } from '../../language/src/sim/run';
-import type { RunJob, WorkerMessage } from './worker-protocol';
-
-const post = (m: WorkerMessage) => parentPort?.postMessage(m);
+import type { JobMessage, JobUpdate, RunJob } from './worker-protocol';
 
 const METHODS = new Set(['adaptive', 'extrapolation', 'stiff']);
 
-function main(job: RunJob): void {
+function main(job: RunJob, post: (m: JobUpdate) => void): void {
   post({ type: 'progress', percentage: 0, message: `checking ${job.loop}` });
   const analysis = analyze(job.text);
   const errors = analysis.diagnostics.filter((d) => d.severity === 'error');
@@ -43,8 +42,12 @@ function main(job: RunJob): void {
   post({ type: 'done', report });
 }
 
-try {
-  main(workerData as RunJob);
-} catch (err) {
-  post({ type: 'error', message: `the run failed on an internal error: ${(err as Error)?.message ?? String(err)}` });
-}
+parentPort?.on('message', (m: JobMessage) => {
+  if (m?.type !== 'job') return;
+  const post = (u: JobUpdate) => parentPort?.postMessage({ ...u, id: m.id });
+  try {
+    main(m.job, post);
+  } catch (err) {
+    post({ type: 'error', message: `the run failed on an internal error: ${(err as Error)?.message ?? String(err)}` });
+  }
+});

@@ -134,8 +134,39 @@ async function measure(lines) {
   };
 }
 
+// Runs through the server (`loopwright/run`, the boom loop of samples/, simulate mode): the
+// first run after the document opens, then repeated runs, as live tuning re-runs on every pause
+// in typing. The run workers are kept warm between runs (server/src/runs.ts, RunWorkers).
+async function runLatency(repeats = 15) {
+  const { readFileSync } = await import('node:fs');
+  const s = start();
+  await s.conn.sendRequest('initialize', { processId: process.pid, rootUri: null, capabilities: {}, initializationOptions: { trusted: true } });
+  await s.conn.sendNotification('initialized', {});
+  const uri = 'file:///bench/boom.loop';
+  const opened = s.diagnostics(uri, 1);
+  await s.conn.sendNotification('textDocument/didOpen', { textDocument: { uri, languageId: 'loop', version: 1, text: readFileSync(join(projectRoot, 'samples', 'boom.loop'), 'utf8') } });
+  await opened;
+  const once = async (mode) => {
+    const t = now();
+    const r = await s.conn.sendRequest('loopwright/run', { uri, loop: 'Upright', mode });
+    if (!r?.runs?.length) throw new Error('the run gave no runs');
+    return now() - t;
+  };
+  const first = await once('simulate');
+  const again = [];
+  for (let i = 0; i < repeats; i++) again.push(await once('simulate'));
+  const sweeps = [];
+  for (let i = 0; i < 5; i++) sweeps.push(await once('sweep'));
+  await s.conn.sendRequest('shutdown');
+  await s.conn.sendNotification('exit');
+  s.conn.dispose();
+  s.proc.kill();
+  return { first, p50: pct(again, 50), p95: pct(again, 95), sweep: pct(sweeps, 50) };
+}
+
 const rows = [];
 for (const n of SIZES) rows.push(await measure(n));
+const runs = await runLatency();
 
 const header = ['lines', 'open→diag ms', 'edit→diag ms', 'hover p50 ms', 'hover p95 ms', 'idle hover p50 ms', 'idle hover p95 ms', 'lens ms', 'sem.tokens ms', 'sem.tokens again ms', 'notes'];
 const body = rows.map((r) => [String(r.lines), ms(r.open), ms(r.edit), ms(r.p50), ms(r.p95), ms(r.i50), ms(r.i95), ms(r.lens), ms(r.sem), ms(r.semWarm), r.notes]);
@@ -145,3 +176,5 @@ console.log('Language server over stdio. edit→diag includes the 100 ms debounc
 console.log('the loops still running between requests), "idle hover" once they are done. Lens and tokens on the idle server.');
 console.log(line(header));
 for (const b of body) console.log(line(b));
+console.log('');
+console.log(`Runs through the server (boom loop, loopwright/run): first after open ${ms(runs.first)} ms; again p50 ${ms(runs.p50)} ms, p95 ${ms(runs.p95)} ms; sweep of 5 runs p50 ${ms(runs.sweep)} ms`);

@@ -1,0 +1,131 @@
+// The server's run workers (server/src/runs.ts, RunWorkers) against the built worker
+// (dist/worker.js): a job goes to the idle worker, so a re-run finds its code compiled; a
+// cancelled job or one over its budget ends its worker, and the next job still runs, on a
+// worker started ahead; an idle worker that dies is replaced; runs at the same time each get a
+// worker; a failed job keeps its worker.
+
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { afterEach, describe, expect, it } from 'vitest';
+import { CancellationTokenSource } from 'vscode-jsonrpc/node';
+import type { LoopRunReport } from '../../language/src/protocol';
+import { RunErrors, RunWorkers } from '../../server/src/runs';
+import type { RunJob } from '../../server/src/worker-protocol';
+
+const ROOT = join(__dirname, '..', '..');
+const PATH = join(ROOT, 'dist', 'worker.js');
+const BOOM = readFileSync(join(ROOT, 'samples', 'boom.loop'), 'utf8');
+// a fast oscillator at a tight tolerance over a long time, run for 200 sweep values: seconds of work
+const SLOW = `plant Osc {
+  param k = 1 [1/s^2]
+  state x [m]
+  state v [m/s]
+  x' = v
+  v' = -k * x
+}
+loop Long {
+  start Osc.x = 1 [m]
+  simulate 800 [s] { tolerance = 1e-12, points = 1000 }
+  sweep Osc.k over 0.5 [1/s^2] .. 1.5 [1/s^2] steps 200
+}
+`;
+
+const job = (text: string, loop: string, mode: RunJob['mode'] = 'simulate'): RunJob => ({ text, loop, mode, budgetMs: 10_000, settings: {} });
+const never = new CancellationTokenSource().token;
+const quiet = { report: () => undefined };
+const made: RunWorkers[] = [];
+const workers = (warm = false) => {
+  const w = new RunWorkers(PATH, { warm });
+  made.push(w);
+  return w;
+};
+const idleThread = (w: RunWorkers): number | undefined => (w as unknown as { idle?: { threadId: number } }).idle?.threadId;
+
+afterEach(() => {
+  for (const w of made.splice(0)) w.dispose();
+});
+
+describe('run workers', { timeout: 60_000 }, () => {
+  it('runs a job, and the next one on the same worker', async () => {
+    const w = workers();
+    const a = await w.run(job(BOOM, 'Upright'), 10_000, never, quiet);
+    const first = idleThread(w);
+    const b = await w.run(job(BOOM, 'Upright'), 10_000, never, quiet);
+    expect(a.runs[0].label).toBe('nonlinear');
+    expect(b.runs[0].t).toEqual(a.runs[0].t);
+    expect(b.runs[0].signals).toEqual(a.runs[0].signals);
+    expect(w.counts).toEqual({ started: 1, reused: 1 });
+    expect(first).toBeGreaterThan(0);
+    expect(idleThread(w)).toBe(first);
+  });
+
+  it('started ahead, the first job already finds a worker', async () => {
+    const w = workers(true);
+    expect(w.counts).toEqual({ started: 1, reused: 0 });
+    const progress: string[] = [];
+    const r = await w.run(job(BOOM, 'Upright', 'compare'), 10_000, never, { report: (_p, m) => void progress.push(m) });
+    expect(r.runs.map((x) => x.label)).toEqual(['nonlinear', 'linear']);
+    expect(progress[0]).toBe('checking Upright');
+    expect(w.counts).toEqual({ started: 1, reused: 1 });
+  });
+
+  it('a cancelled job ends its worker; the next job runs on one started ahead', async () => {
+    const w = workers();
+    const source = new CancellationTokenSource();
+    const pending = w.run(job(SLOW, 'Long', 'sweep'), 60_000, source.token, quiet);
+    setTimeout(() => source.cancel(), 200);
+    await expect(pending).rejects.toMatchObject({ code: -32800, message: 'the run of Long was cancelled' });
+    expect(w.counts.started).toBe(2);
+    const r = await w.run(job(BOOM, 'Upright'), 10_000, never, quiet);
+    expect(r.loop).toBe('Upright');
+    expect(w.counts).toEqual({ started: 2, reused: 1 });
+  });
+
+  it('a job over its budget is stopped with a clear error, and the next one runs', async () => {
+    const w = workers();
+    await expect(w.run(job(SLOW, 'Long', 'sweep'), 300, never, quiet)).rejects.toMatchObject({
+      code: RunErrors.budget,
+      message: 'the run of Long took longer than its time budget of 300 ms and was stopped (setting loopwright.run.timeBudgetMs)',
+    });
+    expect((await w.run(job(BOOM, 'Upright'), 10_000, never, quiet)).loop).toBe('Upright');
+  });
+
+  it('a failed job (an error in the file) keeps its worker', async () => {
+    const w = workers();
+    await expect(w.run(job(BOOM.replace("tilt' = rate", "tilt' = rat"), 'Upright'), 10_000, never, quiet)).rejects.toMatchObject({ code: RunErrors.failed, message: expect.stringMatching(/^Upright cannot run: the file has 1 error, the first: LW201/) });
+    await w.run(job(BOOM, 'Upright'), 10_000, never, quiet);
+    expect(w.counts).toEqual({ started: 1, reused: 1 });
+  });
+
+  it('an idle worker that dies is replaced by a new one for the next job', async () => {
+    const w = workers();
+    await w.run(job(BOOM, 'Upright'), 10_000, never, quiet);
+    const idle = (w as unknown as { idle: import('node:worker_threads').Worker }).idle;
+    await idle.terminate();
+    const r: LoopRunReport = await w.run(job(BOOM, 'Upright'), 10_000, never, quiet);
+    expect(r.loop).toBe('Upright');
+    expect(w.counts).toEqual({ started: 2, reused: 0 });
+  });
+
+  it('jobs at the same time get a worker each; one stays idle afterwards', async () => {
+    const w = workers();
+    const [a, b] = await Promise.all([w.run(job(BOOM, 'Upright'), 10_000, never, quiet), w.run(job(BOOM, 'Upright', 'sweep'), 10_000, never, quiet)]);
+    expect(a.runs).toHaveLength(1);
+    expect(b.runs.length).toBeGreaterThan(1);
+    expect(w.counts).toEqual({ started: 2, reused: 0 });
+    expect(idleThread(w)).toBeGreaterThan(0);
+    await w.run(job(BOOM, 'Upright'), 10_000, never, quiet);
+    expect(w.counts).toEqual({ started: 2, reused: 1 });
+  });
+
+  it('after dispose, a job is refused with a clear error', async () => {
+    const w = workers();
+    w.dispose();
+    await expect(w.run(job(BOOM, 'Upright'), 10_000, never, quiet)).rejects.toMatchObject({ code: RunErrors.unavailable, message: 'the run workers were shut down' });
+  });
+
+  it('a missing worker file is a clear error', async () => {
+    const w = new RunWorkers(join(ROOT, 'dist', 'no-such-worker.js'));
+    await expect(w.run(job(BOOM, 'Upright'), 10_000, never, quiet)).rejects.toMatchObject({ code: RunErrors.unavailable, message: expect.stringContaining('the run worker is missing') });
+  });
+});
