@@ -27,16 +27,20 @@ export function workerPath(): string {
  * (live tuning re-runs on every pause in typing) finds the worker started and its code already
  * compiled: about 20 ms for the boom loop instead of about 270 ms for a new thread. After a job
  * the worker stays as the idle one (a second one, of runs at the same time, ends). A job that is
- * cancelled or runs out of its budget ends its worker, the only way to stop a computation in
- * another thread, and a new one is started at once for the next job. An idle worker does not
- * keep the process alive, and one that dies while idle is simply replaced.
+ * cancelled or runs out of its budget is answered at once and told to stop; its worker is kept
+ * when the job stops soon, and ended otherwise (a new one is then started at once for the next
+ * job). An idle worker does not keep the process alive, and one that dies while idle is simply
+ * replaced.
  */
+/** How long a stopped job may take to answer before its worker is ended. */
+export const STOP_GRACE_MS = 500;
+
 export class RunWorkers {
   private idle: Worker | undefined;
   private nextId = 1;
   private disposed = false;
   /** Workers started and jobs that found a started one (for tests and the log). */
-  readonly counts = { started: 0, reused: 0 };
+  readonly counts = { started: 0, reused: 0, stopping: 0 };
 
   constructor(
     private readonly path = workerPath(),
@@ -51,41 +55,75 @@ export class RunWorkers {
     return new Promise<LoopRunReport>((resolve, reject) => {
       const id = this.nextId++;
       const worker = this.take();
+      const stop = new Int32Array(new SharedArrayBuffer(4));
       let settled = false;
-      const finish = (keep: boolean, f: () => void) => {
+      // how the job's worker is left: back for the next job, stopped (it may still answer), or ended
+      const finish = (after: 'keep' | 'stop' | 'end', f: () => void) => {
         if (settled) return;
         settled = true;
         clearTimeout(timer);
         sub.dispose();
-        worker.off('message', onMessage);
         worker.off('error', onError);
         worker.off('exit', onExit);
-        if (keep) this.give(worker);
+        if (after === 'stop') this.stopAndKeep(worker, id, stop, onMessage);
         else {
-          void worker.terminate().catch(() => undefined);
-          this.prepare();
+          worker.off('message', onMessage);
+          if (after === 'keep') this.give(worker);
+          else this.end(worker);
         }
         f();
       };
       const timer = setTimeout(() => {
-        finish(false, () => reject(new ResponseError(RunErrors.budget, `the run of ${job.loop} took longer than its time budget of ${budgetMs} ms and was stopped (setting loopwright.run.timeBudgetMs)`)));
+        finish('stop', () => reject(new ResponseError(RunErrors.budget, `the run of ${job.loop} took longer than its time budget of ${budgetMs} ms and was stopped (setting loopwright.run.timeBudgetMs)`)));
       }, budgetMs);
-      const sub = token.onCancellationRequested(() => finish(false, () => reject(new ResponseError(LSPErrorCodes.RequestCancelled, `the run of ${job.loop} was cancelled`))));
+      const sub = token.onCancellationRequested(() => finish('stop', () => reject(new ResponseError(LSPErrorCodes.RequestCancelled, `the run of ${job.loop} was cancelled`))));
       const onMessage = (m: WorkerMessage) => {
-        if (m?.id !== id) return;
-        if (m.type === 'progress') {
-          if (!settled) progress.report(m.percentage, m.message);
-        } else if (m.type === 'done') finish(true, () => resolve(m.report));
-        else if (m.type === 'error') finish(true, () => reject(new ResponseError(RunErrors.failed, m.message)));
+        if (m?.id !== id || settled) return;
+        if (m.type === 'progress') progress.report(m.percentage, m.message);
+        else if (m.type === 'done') finish('keep', () => resolve(m.report));
+        else if (m.type === 'error') finish('keep', () => reject(new ResponseError(RunErrors.failed, m.message)));
+        else if (m.type === 'stopped') finish('keep', () => reject(new ResponseError(RunErrors.failed, `the run of ${job.loop} stopped early`)));
       };
-      const onError = (err: Error) => finish(false, () => reject(new ResponseError(RunErrors.failed, `the run of ${job.loop} failed: ${err.message}`)));
-      const onExit = (code: number) => finish(false, () => reject(new ResponseError(RunErrors.failed, `the run of ${job.loop} stopped unexpectedly (worker exit ${code})`)));
+      const onError = (err: Error) => finish('end', () => reject(new ResponseError(RunErrors.failed, `the run of ${job.loop} failed: ${err.message}`)));
+      const onExit = (code: number) => finish('end', () => reject(new ResponseError(RunErrors.failed, `the run of ${job.loop} stopped unexpectedly (worker exit ${code})`)));
       worker.on('message', onMessage);
       worker.on('error', onError);
       worker.on('exit', onExit);
       worker.ref();
-      worker.postMessage({ type: 'job', id, job } satisfies JobMessage);
+      worker.postMessage({ type: 'job', id, job, stop: stop.buffer as SharedArrayBuffer } satisfies JobMessage);
     });
+  }
+
+  /**
+   * Stops a job whose caller has been answered (cancelled, over budget): sets its stop flag and
+   * keeps the worker if the job answers within STOP_GRACE_MS (the runs check the flag at every
+   * step); otherwise ends the worker, the only way to stop a computation in another thread, and
+   * starts a new one for the next job.
+   */
+  private stopAndKeep(worker: Worker, id: number, stop: Int32Array, jobListener: (m: WorkerMessage) => void): void {
+    worker.off('message', jobListener);
+    Atomics.store(stop, 0, 1);
+    const done = (keep: boolean) => {
+      clearTimeout(grace);
+      worker.off('message', onAnswer);
+      worker.off('exit', onGone);
+      if (keep) this.give(worker);
+      else this.end(worker);
+    };
+    const onAnswer = (m: WorkerMessage) => {
+      if (m?.id === id && m.type !== 'progress') done(true);
+    };
+    const onGone = () => done(false);
+    const grace = setTimeout(() => done(false), STOP_GRACE_MS);
+    worker.on('message', onAnswer);
+    worker.on('exit', onGone);
+    this.counts.stopping++;
+  }
+
+  /** Ends a worker and starts the next job's one ahead. */
+  private end(worker: Worker): void {
+    void worker.terminate().catch(() => undefined);
+    this.prepare();
   }
 
   /** Ends the idle worker; later runs are refused. */
