@@ -157,7 +157,7 @@ export class RunWorkers {
 
   /** Starts the next job's worker ahead, when none is idle. */
   private prepare(): void {
-    if (!this.idle && !this.disposed) this.park(this.start());
+    if (!this.idle && !this.disposed) this.park(this.start(true));
   }
 
   private park(w: Worker): void {
@@ -171,9 +171,10 @@ export class RunWorkers {
     if (this.idle && this.idle.threadId < 0) this.idle = undefined;
   };
 
-  private start(): Worker {
+  /** A new worker; one started ahead (`warm`) runs a small loop of its own first (worker.ts). */
+  private start(warm = false): Worker {
     this.counts.started++;
-    const w = new Worker(this.path, { resourceLimits: RUN_WORKER_LIMITS });
+    const w = new Worker(this.path, { resourceLimits: RUN_WORKER_LIMITS, workerData: { warm } });
     // an error of a worker between jobs must not go unhandled; during a job the job's own handler reports it
     w.on('error', () => undefined);
     return w;

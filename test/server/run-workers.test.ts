@@ -14,6 +14,8 @@ import { RunErrors, RunWorkers, STOP_GRACE_MS } from '../../server/src/runs';
 // @ts-expect-error a plain ES module of the benchmarks, without types
 import { generateDocument } from '../bench/generate.mjs';
 import type { RunJob } from '../../server/src/worker-protocol';
+import { WARM_UP } from '../../server/src/worker';
+import { analyze } from '../../language/src/analysis';
 
 const ROOT = join(__dirname, '..', '..');
 const PATH = join(ROOT, 'dist', 'worker.js');
@@ -143,6 +145,16 @@ describe('run workers', { timeout: 60_000 }, () => {
     expect(idleThread(w)).toBeGreaterThan(0);
     await w.run(job(BOOM, 'Upright'), 10_000, never, quiet);
     expect(w.counts).toEqual({ started: 2, reused: 1, stopping: 0 });
+  });
+
+  it("the warm-up loop of a worker started ahead checks clean and runs every mode (else the warm-up would only cost time)", async () => {
+    expect(analyze(WARM_UP).diagnostics).toEqual([]);
+    const w = workers();
+    for (const mode of ['simulate', 'compare', 'sweep'] as const) {
+      const r = await w.run(job(WARM_UP, 'Warm', mode), 10_000, never, quiet);
+      expect(r.runs.every((x) => !x.error)).toBe(true);
+    }
+    expect((await w.run(job(WARM_UP, 'Warm', 'sweep'), 10_000, never, quiet)).runs.map((x) => x.label)).toEqual(['nonlinear', 'Pi.kp = 1', 'Pi.kp = 5', 'Lag.y = 0.2 [1]', 'Lag.y = 0.4 [1]']);
   });
 
   it('after dispose, a job is refused with a clear error', async () => {
