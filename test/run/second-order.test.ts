@@ -8,6 +8,15 @@ import { describe, expect, it } from 'vitest';
 import { simulate } from '../../language/src/sim/run';
 import { compile, sample } from './helpers';
 
+/** x'' = −4x from x(0) = 1 (x = cos 2t) over two periods, showing `out` (an expression of x). */
+const oscillator = (out: string) => `plant Spring { state x [1] = 1
+  state v [1/s]
+  output out [1] = ${out}
+  x' = v
+  v' = -4 [1/s^2] * x }
+  loop Swing { simulate 6.283185307179586 [s] { tolerance = 1e-9, points = 5 }
+    show Spring.out }`;
+
 describe('second-order step response', () => {
   const c = compile(sample('second-order.loop'));
   const [run] = simulate(c);
@@ -84,13 +93,7 @@ describe('IAE on the dense output', () => {
   it('∫|cos 2t| over two periods of an oscillator state is 4, the sign changes falling inside steps (calculus)', () => {
     // x'' = −4x, x(0) = 1: x = cos 2t; ∫₀^{2π}|cos 2t| dt = 8 · ∫₀^{π/4} cos 2t dt = 4. The
     // state's zeros lie inside the integrator's steps, where the IAE is cut at the root.
-    const c = compile(`plant Spring { state x [1] = 1
-      state v [1/s]
-      output out [1] = x
-      x' = v
-      v' = -4 [1/s^2] * x }
-      loop Swing { simulate 6.283185307179586 [s] { tolerance = 1e-9, points = 5 }
-        show Spring.out }`);
+    const c = compile(oscillator('x'));
     const [run] = simulate(c);
     expect(run.error).toBeUndefined();
     expect(Math.abs(run.metrics['Spring.out'].iae - 4)).toBeLessThan(1e-7);
@@ -100,13 +103,7 @@ describe('IAE on the dense output', () => {
     // The same oscillator with out = x³: ∫₀^{2π}|cos 2t|³ dt = 8 · ∫₀^{π/4} cos³ 2t dt
     // = 4 · ∫₀^{π/2} cos³ u du = 4 · 2/3. Within a step the cut and the pieces are taken on the
     // quartic through the step's five samples of x³, which is not the dense output of x cubed.
-    const c = compile(`plant Spring { state x [1] = 1
-      state v [1/s]
-      output out [1] = x^3
-      x' = v
-      v' = -4 [1/s^2] * x }
-      loop Swing { simulate 6.283185307179586 [s] { tolerance = 1e-9, points = 5 }
-        show Spring.out }`);
+    const c = compile(oscillator('x^3'));
     const [run] = simulate(c);
     expect(run.error).toBeUndefined();
     expect(Math.abs(run.metrics['Spring.out'].iae - 8 / 3)).toBeLessThan(1e-7);

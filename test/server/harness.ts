@@ -210,3 +210,23 @@ export class Server {
     if (this.exited === null) this.proc.kill();
   }
 }
+
+/**
+ * A loop whose run takes long: a fast oscillator over a long time at a tight tolerance. The
+ * nominal run and a sweep of 200 more, of about 70,000 steps each (some 9 s in all here): every
+ * run stays within the step limit of a run, so only a time budget or a cancel stops the job,
+ * even on a much faster machine.
+ */
+export const SLOW_LOOP = `plant Osc {
+  param k = 1 [1/s^2]
+  state x [m]
+  state v [m/s]
+  x' = v
+  v' = -k * x
+}
+loop Long {
+  start Osc.x = 1 [m]
+  simulate 800 [s] { tolerance = 1e-12, points = 1000 }
+  sweep Osc.k over 0.5 [1/s^2] .. 1.5 [1/s^2] steps 200
+}
+`;

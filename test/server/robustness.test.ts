@@ -7,7 +7,7 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { WorkDoneProgress, type CompletionItem, type Hover, type MarkupContent } from 'vscode-languageserver-protocol';
 import type { LoopRunReport } from '../../language/src/protocol';
-import { buildOnce, ROOT, Server } from './harness';
+import { buildOnce, ROOT, Server, SLOW_LOOP } from './harness';
 import { freshUri, lensTitles, positionAt } from './features';
 
 let server: Server;
@@ -23,23 +23,7 @@ afterAll(async () => {
 
 const BOOM = readFileSync(join(ROOT, 'samples', 'boom.loop'), 'utf8');
 
-/** A loop whose run takes long: a fast oscillator over a long time at a tight tolerance. */
-// The nominal run and a sweep of 200 more, of about 70,000 steps each (some 9 s in all here):
-// every run stays within the step limit of a run, so only the time budget can stop the job,
-// even on a much faster machine
-const SLOW = `plant Osc {
-  param k = 1 [1/s^2]
-  state x [m]
-  state v [m/s]
-  x' = v
-  v' = -k * x
-}
-loop Long {
-  start Osc.x = 1 [m]
-  simulate 800 [s] { tolerance = 1e-12, points = 1000 }
-  sweep Osc.k over 0.5 [1/s^2] .. 1.5 [1/s^2] steps 200
-}
-`;
+const SLOW = SLOW_LOOP;
 
 async function alive(s: Server): Promise<void> {
   const uri = freshUri('alive');

@@ -14,26 +14,14 @@ import { RunErrors, RunWorkers, STOP_GRACE_MS } from '../../server/src/runs';
 // @ts-expect-error a plain ES module of the benchmarks, without types
 import { generateDocument } from '../bench/generate.mjs';
 import type { RunJob } from '../../server/src/worker-protocol';
+import { SLOW_LOOP } from './harness';
 import { WARM_UP } from '../../server/src/worker';
 import { analyze } from '../../language/src/analysis';
 
 const ROOT = join(__dirname, '..', '..');
 const PATH = join(ROOT, 'dist', 'worker.js');
 const BOOM = readFileSync(join(ROOT, 'samples', 'boom.loop'), 'utf8');
-// a fast oscillator at a tight tolerance over a long time, run for 200 sweep values: seconds of work
-const SLOW = `plant Osc {
-  param k = 1 [1/s^2]
-  state x [m]
-  state v [m/s]
-  x' = v
-  v' = -k * x
-}
-loop Long {
-  start Osc.x = 1 [m]
-  simulate 800 [s] { tolerance = 1e-12, points = 1000 }
-  sweep Osc.k over 0.5 [1/s^2] .. 1.5 [1/s^2] steps 200
-}
-`;
+const SLOW = SLOW_LOOP;
 
 const job = (text: string, loop: string, mode: RunJob['mode'] = 'simulate'): RunJob => ({ text, loop, mode, budgetMs: 10_000, settings: {} });
 const never = new CancellationTokenSource().token;
