@@ -95,6 +95,8 @@ class RunDriver {
   readonly iaeTs = new Float64Array(5);
   readonly iaeYs = new Float64Array(5);
   readonly iaeCuts = new Float64Array(6);
+  /** The split signal's quartic in powers of θ. */
+  readonly iaeC = new Float64Array(5);
   // grid: times for (points, tEnd)
   gridT = new Float64Array(0);
   private gridEnd = NaN;
@@ -338,14 +340,13 @@ export function fmtTime(t: number): string {
   return `${Number(t.toPrecision(6))} s`;
 }
 
-/** One run of a compiled loop. Never throws. */
 /** Nodes of a step's five samples in θ = (t − a) / h: its ends and the Gauss–Legendre nodes. */
 const QUARTIC_NODES = [0, GL3_NODES[0], GL3_NODES[1], GL3_NODES[2], 1];
 /** Their Lagrange weights 1 / Π_{m≠k} (θ_k − θ_m). */
 const QUARTIC_WEIGHTS = QUARTIC_NODES.map((tk, k) => 1 / QUARTIC_NODES.reduce((p, tm, m) => (m === k ? p : p * (tk - tm)), 1));
 
-/** The quartic through the five samples ys at θ. */
-function quartic(ys: Float64Array, th: number): number {
+/** The quartic through the five samples ys at θ, in Lagrange form (the reference of the power form below). */
+export function quartic(ys: ArrayLike<number>, th: number): number {
   const d0 = th - QUARTIC_NODES[0], d1 = th - QUARTIC_NODES[1], d2 = th - QUARTIC_NODES[2], d3 = th - QUARTIC_NODES[3], d4 = th - QUARTIC_NODES[4];
   return (
     QUARTIC_WEIGHTS[0] * ys[0] * d1 * d2 * d3 * d4 +
@@ -356,25 +357,75 @@ function quartic(ys: Float64Array, th: number): number {
   );
 }
 
-// the quartic whose root quarticRoot seeks, signed so that it falls through zero (module
-// state instead of a closure per call)
-let rootYs: Float64Array = new Float64Array(5);
-let rootSign = 1;
-const signedQuartic = (th: number): number => rootSign * quartic(rootYs, th);
+/** LAGRANGE_POWERS[5k + m]: the coefficient of θ^m in the k-th Lagrange basis polynomial. */
+const LAGRANGE_POWERS = (() => {
+  const out = new Float64Array(25);
+  for (let k = 0; k < 5; k++) {
+    let poly = [QUARTIC_WEIGHTS[k]];
+    for (let m = 0; m < 5; m++) {
+      if (m === k) continue;
+      const next = new Array<number>(poly.length + 1).fill(0);
+      for (let i = 0; i < poly.length; i++) {
+        next[i + 1] += poly[i];
+        next[i] -= QUARTIC_NODES[m] * poly[i];
+      }
+      poly = next;
+    }
+    for (let m = 0; m < 5; m++) out[5 * k + m] = poly[m];
+  }
+  return out;
+})();
 
-/**
- * θ of the sign change of the quartic through a step's five samples between samples k and k+1
- * (ys[k]·ys[k+1] < 0), by the Illinois method of locateRoot. The dense output of the
- * 'adaptive' method is a quartic in θ, so for a signal linear in the states this is the root
- * of the dense output itself; otherwise the quartic is off by the order of the dense output's
- * own error, and a cut off by δ changes the IAE by only about 2·|y'|·δ².
- */
-export function quarticRoot(ys: Float64Array, k: number): number {
-  rootYs = ys;
-  rootSign = ys[k] > 0 ? 1 : -1;
-  return locateRoot(signedQuartic, QUARTIC_NODES[k], Math.abs(ys[k]), QUARTIC_NODES[k + 1], -Math.abs(ys[k + 1]));
+/** The quartic through the five samples ys in powers of θ: c[m] is the coefficient of θ^m. */
+export function quarticPowers(ys: ArrayLike<number>, c: Float64Array): void {
+  for (let m = 0; m < 5; m++) {
+    let v = 0;
+    for (let k = 0; k < 5; k++) v += ys[k] * LAGRANGE_POWERS[5 * k + m];
+    c[m] = v;
+  }
 }
 
+/** The quartic of power coefficients c at θ (Horner). */
+function powerQuartic(c: Float64Array, th: number): number {
+  return (((c[4] * th + c[3]) * th + c[2]) * th + c[1]) * th + c[0];
+}
+
+/**
+ * θ of the sign change of the quartic c (power form, through the samples ys) between samples k
+ * and k+1 (ys[k]·ys[k+1] < 0): Newton's method kept inside the bracket, which it shrinks at every
+ * step, with bisection when a step would leave it; it stops when θ moves by less than 1e-12.
+ * The dense output of the 'adaptive' method is a quartic in θ, so for a signal linear in the
+ * states this is the root of the dense output itself; otherwise the quartic is off by the order
+ * of the dense output's own error, and a cut off by δ changes the IAE by only about 2·|y'|·δ².
+ */
+function powerQuarticRoot(c: Float64Array, ys: ArrayLike<number>, k: number): number {
+  let lo = QUARTIC_NODES[k], hi = QUARTIC_NODES[k + 1];
+  const loPositive = ys[k] > 0;
+  // start where the chord through the two samples crosses zero
+  let th = lo + ((hi - lo) * ys[k]) / (ys[k] - ys[k + 1]);
+  for (let it = 0; it < 60; it++) {
+    const p = powerQuartic(c, th);
+    if (p === 0) return th;
+    if (p > 0 === loPositive) lo = th;
+    else hi = th;
+    const dp = ((4 * c[4] * th + 3 * c[3]) * th + 2 * c[2]) * th + c[1];
+    let next = th - p / dp;
+    if (!(next > lo && next < hi)) next = 0.5 * (lo + hi);
+    if (Math.abs(next - th) <= 1e-12 || hi - lo <= 1e-12) return next;
+    th = next;
+  }
+  return th;
+}
+
+const rootPowers = new Float64Array(5);
+
+/** θ of the sign change of the quartic through the five samples ys between samples k and k+1. */
+export function quarticRoot(ys: ArrayLike<number>, k: number): number {
+  quarticPowers(ys, rootPowers);
+  return powerQuarticRoot(rootPowers, ys, k);
+}
+
+/** One run of a compiled loop. Never throws. */
 export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOptions = {}): SampledRun {
   const started = now();
   const n = c.n;
@@ -630,7 +681,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
    * any other it is off by the order of the dense output's own error. So a split costs no further
    * evaluations of the loop. No arrays or closures per call.
    */
-  const iaeTs = d.iaeTs, iaeYs = d.iaeYs, iaeCuts = d.iaeCuts;
+  const iaeTs = d.iaeTs, iaeYs = d.iaeYs, iaeCuts = d.iaeCuts, iaeC = d.iaeC;
   const iaeSplit = (view: StepView, j: number, a: number, b: number, y0: number, y1: number, y2: number, y3: number, y4: number): number => {
     const h = b - a;
     iaeTs[0] = a;
@@ -643,11 +694,12 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
     iaeYs[2] = y2;
     iaeYs[3] = y3;
     iaeYs[4] = y4;
+    quarticPowers(iaeYs, iaeC);
     let nc = 0;
     iaeCuts[nc++] = a;
     for (let k = 0; k < 4; k++) {
       const ya = iaeYs[k], yb = iaeYs[k + 1];
-      if (ya * yb < 0) iaeCuts[nc++] = a + h * quarticRoot(iaeYs, k);
+      if (ya * yb < 0) iaeCuts[nc++] = a + h * powerQuarticRoot(iaeC, iaeYs, k);
     }
     iaeCuts[nc++] = b;
     let total = 0;
@@ -656,7 +708,7 @@ export function runOnce(c: Compiled, spec: RunSpec, input: RunInput, opts: RunOp
       if (hh <= 0) continue;
       // the piece's Gauss nodes on the same quartic (θ of the step)
       const q0 = (u + GL3_NODES[0] * hh - a) / h, q1 = (u + GL3_NODES[1] * hh - a) / h, q2 = (u + GL3_NODES[2] * hh - a) / h;
-      total += hh * (GL3_WEIGHTS[0] * Math.abs(quartic(iaeYs, q0)) + GL3_WEIGHTS[1] * Math.abs(quartic(iaeYs, q1)) + GL3_WEIGHTS[2] * Math.abs(quartic(iaeYs, q2)));
+      total += hh * (GL3_WEIGHTS[0] * Math.abs(powerQuartic(iaeC, q0)) + GL3_WEIGHTS[1] * Math.abs(powerQuartic(iaeC, q1)) + GL3_WEIGHTS[2] * Math.abs(powerQuartic(iaeC, q2)));
     }
     return total;
   };
