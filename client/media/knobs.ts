@@ -8,16 +8,16 @@
 // in length, and adopts a report's spans only when the report was computed from a document that
 // already holds the page's edits, so a report of an older document never puts a stale span under
 // the next edit:
-// - A report with its document version (live runs): the host answers every edit with `edited`
-//   and the version it left. Such a report is adopted when no edit is waiting for its answer and
-//   its version is at least the last answered one; it is held back while an edit is waiting
-//   (and decided when the answer comes), and dropped when it is older (a newer one is on its
-//   way). An undo in the editor makes a newer version, so its report is adopted at once, text
-//   the page never posted included. An edit left unanswered for ANSWER_MS stops counting.
-// - A report without a version: adopted once it reflects the page's last edit (its `text` of
-//   each edited param equals the last text posted) or after PENDING_MS without an edit; one
-//   held back for coming sooner than that is adopted when PENDING_MS have passed, unless a
-//   newer report or edit came meanwhile.
+// - A report with its document version (live and command runs): the host answers every edit
+//   with `edited` and the version it left. Such a report is adopted when no edit is waiting for
+//   its answer and its version is at least the last answered one; it is held back while an edit
+//   is waiting (and decided when the answer comes), and dropped when it is older (a newer one is
+//   on its way). An undo in the editor makes a newer version, so its report is adopted at once,
+//   text the page never posted included. An edit left unanswered for ANSWER_MS stops counting.
+// - A report without a version (restored after a reload): adopted once it reflects the page's
+//   last edit (its `text` of each edited param equals the last text posted) or after PENDING_MS
+//   without an edit; one held back for coming sooner than that is adopted when PENDING_MS have
+//   passed, unless a newer report or edit came meanwhile.
 
 import type { Span } from '../../language/src/diagnostics';
 import type { ParamKnob } from '../../language/src/protocol';

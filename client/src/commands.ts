@@ -71,11 +71,19 @@ export interface RunOptions {
   onFailure?: (message: string) => void;
 }
 
+/** A run's report and the version of the document it was computed from, when it is open. */
+export interface RunOutcome {
+  report: LoopRunReport;
+  version?: number;
+}
+
 /**
  * Sends `loopwright/run` with a cancellable progress notification. Resolves to the report, or to
- * undefined when the run was cancelled or failed (the user has been told why).
+ * undefined when the run was cancelled or failed (the user has been told why). The server runs
+ * the text of the document's version at the time of the request (the client sends every change
+ * before a request), which is the version given back.
  */
-export async function runLoop(services: CommandServices, id: PanelIdentity, mode: RunMode, options: RunOptions = {}): Promise<LoopRunReport | undefined> {
+export async function runLoop(services: CommandServices, id: PanelIdentity, mode: RunMode, options: RunOptions = {}): Promise<RunOutcome | undefined> {
   const client = await services.server.ready();
   if (!client) {
     options.onFailure?.('the language server is not running');
@@ -101,8 +109,10 @@ export async function runLoop(services: CommandServices, id: PanelIdentity, mode
       }),
     );
     const params: RunRequestParams = { uri: id.uri, loop: id.loop, mode, workDoneToken };
+    const version = vscode.workspace.textDocuments.find((d) => d.uri.toString() === id.uri)?.version;
     try {
-      return await client.sendRequest<LoopRunReport>(RunRequest, params, source.token);
+      const report = await client.sendRequest<LoopRunReport>(RunRequest, params, source.token);
+      return { report, ...(version !== undefined ? { version } : {}) };
     } catch (error) {
       if (isCancellation(error, source.token)) {
         if (!options.quiet) vscode.window.setStatusBarMessage(`Loopwright: run of ${id.loop} cancelled`, 4000);
@@ -126,8 +136,8 @@ async function runAndShow(services: CommandServices, args: unknown[], mode: RunM
   const open = services.panels.get(id);
   open?.status('running', RUN_TITLES[mode](id.loop));
   let failure: string | undefined;
-  const report = await runLoop(services, id, mode, { onFailure: (m) => (failure = m) });
-  if (report) services.panels.show(id, report, mode);
+  const run = await runLoop(services, id, mode, { onFailure: (m) => (failure = m) });
+  if (run) services.panels.show(id, run.report, mode, run.version);
   if (open) open.status(failure ? 'error' : 'idle', failure);
 }
 
@@ -135,9 +145,9 @@ async function runAndShow(services: CommandServices, args: unknown[], mode: RunM
 async function reportFor(services: CommandServices, id: PanelIdentity): Promise<LoopRunReport | undefined> {
   const last = services.panels.get(id)?.report;
   if (last) return last;
-  const report = await runLoop(services, id, 'simulate');
-  if (report) services.panels.show(id, report, 'simulate');
-  return report;
+  const run = await runLoop(services, id, 'simulate');
+  if (run) services.panels.show(id, run.report, 'simulate', run.version);
+  return run?.report;
 }
 
 export async function exportCsvText(id: PanelIdentity, csv: string): Promise<void> {

@@ -102,7 +102,7 @@ export class ReportPanel implements vscode.Disposable {
 
   /**
    * Shows a report: at once if the page is ready, else when it says so. `version`: the document
-   * version it was computed from (live runs), so the page's knobs can tell whether it already
+   * version it was computed from (live and command runs), so the page's knobs can tell whether it already
    * holds their edits.
    */
   show(report: LoopRunReport, mode: RunMode, version?: number): void {
@@ -220,8 +220,8 @@ export class ReportPanels implements vscode.WebviewPanelSerializer<unknown>, vsc
     return [...this.panels.values()];
   }
 
-  /** Opens the loop's panel (or brings back the open one) and shows the report in it. */
-  show(id: PanelIdentity, report: LoopRunReport, mode: RunMode): ReportPanel {
+  /** Opens the loop's panel (or brings back the open one) and shows the report in it (`version`: of the document it was computed from). */
+  show(id: PanelIdentity, report: LoopRunReport, mode: RunMode, version?: number): ReportPanel {
     let panel = this.get(id);
     if (panel) {
       panel.reveal();
@@ -235,7 +235,7 @@ export class ReportPanels implements vscode.WebviewPanelSerializer<unknown>, vsc
       panel = this.adopt(id, webviewPanel);
     }
     const changed = panel.report === undefined || panel.mode !== mode;
-    panel.show(report, mode);
+    panel.show(report, mode, version);
     if (changed) this.watchEmitter.fire({ id, open: true, mode });
     return panel;
   }
