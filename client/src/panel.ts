@@ -102,8 +102,8 @@ export class ReportPanel implements vscode.Disposable {
 
   /**
    * Shows a report: at once if the page is ready, else when it says so. `version`: the document
-   * version it was computed from (live and command runs), so the page's knobs can tell whether it already
-   * holds their edits.
+   * version it was computed from (live and command runs), so the page's knobs can tell whether
+   * it already holds their edits.
    */
   show(report: LoopRunReport, mode: RunMode, version?: number): void {
     this.report = report;
@@ -220,7 +220,10 @@ export class ReportPanels implements vscode.WebviewPanelSerializer<unknown>, vsc
     return [...this.panels.values()];
   }
 
-  /** Opens the loop's panel (or brings back the open one) and shows the report in it (`version`: of the document it was computed from). */
+  /**
+   * Opens the loop's panel (or brings back the open one) and shows the report in it (`version`:
+   * of the document it was computed from).
+   */
   show(id: PanelIdentity, report: LoopRunReport, mode: RunMode, version?: number): ReportPanel {
     let panel = this.get(id);
     if (panel) {

@@ -1,8 +1,9 @@
 // `loopwright/run`: runs a loop in a worker thread (dist/worker.js) so the server keeps
 // answering while it computes. The worker gets the document text, the loop and the mode; it
-// reports progress, which is forwarded as work-done progress. The run is stopped — the worker
-// terminated — when the client cancels or when the time budget (`loopwright.run.timeBudgetMs`)
-// runs out; both answer with a clear error. Workers are kept warm between runs (RunWorkers).
+// reports progress, which is forwarded as work-done progress. The run is stopped when the client
+// cancels or when the time budget (`loopwright.run.timeBudgetMs`) runs out; both answer at once
+// with a clear error. Workers are kept warm between runs (RunWorkers): a stopped job is told to
+// stop, and its worker is terminated only when it does not stop soon.
 
 import { Worker } from 'node:worker_threads';
 import { join } from 'node:path';
@@ -22,6 +23,9 @@ export function workerPath(): string {
   return join(__dirname, 'worker.js');
 }
 
+/** How long a stopped job may take to answer before its worker is ended. */
+export const STOP_GRACE_MS = 500;
+
 /**
  * Run workers kept between runs. A job goes to the idle worker when there is one, so a re-run
  * (live tuning re-runs on every pause in typing) finds the worker started and its code already
@@ -32,9 +36,6 @@ export function workerPath(): string {
  * job). An idle worker does not keep the process alive, and one that dies while idle is simply
  * replaced.
  */
-/** How long a stopped job may take to answer before its worker is ended. */
-export const STOP_GRACE_MS = 500;
-
 export class RunWorkers {
   private idle: Worker | undefined;
   private nextId = 1;
